@@ -1,0 +1,32 @@
+# Two commands set everything up on a fresh machine: `make demo` and `make test`.
+PYTHON ?= python3
+VENV   := .venv
+PY     := $(VENV)/bin/python
+PIP    := $(PY) -m pip
+
+.PHONY: demo test bench clean
+
+$(PY):
+	$(PYTHON) -m venv $(VENV)
+	$(PIP) install --quiet --upgrade pip
+
+# Re-install whenever pyproject.toml changes.
+$(VENV)/.install-stamp: pyproject.toml | $(PY)
+	$(PIP) install --quiet -e .
+	touch $@
+
+$(VENV)/.install-stamp-test: pyproject.toml | $(PY)
+	$(PIP) install --quiet -e ".[test]"
+	touch $@
+
+demo: $(VENV)/.install-stamp
+	$(VENV)/bin/thzarray demo --out gallery --force
+
+test: $(VENV)/.install-stamp-test
+	$(PY) -m pytest
+
+bench: $(VENV)/.install-stamp-test
+	$(PY) -m benchmarks
+
+clean:
+	rm -rf $(VENV) .pytest_cache .hypothesis
