@@ -173,3 +173,18 @@ def test_worked_example_numbers():
     length = float(length_for_cone(np.radians(3.0), 0.5e12, HUMID))
     assert_allclose(mp_peak(length, 0.5e12, HUMID, np.radians(3.0)), np.radians(3.0), rtol=1e-9)
     assert f"{100 * length:.1f}" == "16.4"
+
+
+def test_worked_example_pattern_ratio():
+    # README: intensity at 6 deg relative to the cone maximum for 30 cm at 0.3 THz, from the
+    # REFERENCES.md line-current formula sin^2(t) sin^2(X)/(K - n cos t)^2 evaluated here.
+    f, length = 0.3e12, 0.30
+    cone = float(cone_angle(length, f, HUMID))
+
+    def pattern(t):
+        x = np.pi * f * length / c * (HUMID.n_group - HUMID.n_thz * np.cos(t))
+        return np.sin(t) ** 2 * np.sin(x) ** 2 / (HUMID.n_group - HUMID.n_thz * np.cos(t)) ** 2
+
+    ratio = pattern(np.radians(6.0)) / pattern(cone)
+    assert f"{ratio:.3f}" == "0.218"
+    assert pattern(0.0) == 0.0

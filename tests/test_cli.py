@@ -1,0 +1,115 @@
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from thzarray import Medium, cone_angle, length_for_cone
+from thzarray.cli import main
+
+ROOT = Path(__file__).resolve().parents[1]
+
+
+def run(*args, capsys):
+    code = main(list(args))
+    out = capsys.readouterr()
+    return code, out.out, out.err
+
+
+def test_cone_length_to_angle_json(capsys):
+    code, out, err = run("cone", "--length", "30 cm", "--freq", "0.3 THz", "--humidity", "50 %",
+                         "--json", capsys=capsys)
+    assert code == 0
+    data = json.loads(out)
+    expected = cone_angle(0.30, 0.3e12, Medium.air(relative_humidity=0.5))
+    assert data["cone_angle_rad"] == pytest.approx(float(expected), rel=1e-12)
+    assert set(data) == {"freq_hz", "n_group", "n_thz", "length_m", "cone_angle_rad",
+                         "cone_angle_deg"}
+
+
+def test_cone_angle_to_length_text(capsys):
+    code, out, _ = run("cone", "--angle", "3 deg", "--freq", "500 GHz", "--humidity", "50 %",
+                       capsys=capsys)
+    assert code == 0
+    expected = length_for_cone(np.radians(3), 0.5e12, Medium.air(relative_humidity=0.5))
+    assert f"{100 * expected:.4g} cm" in out
+
+
+@pytest.mark.parametrize("args, needle", [
+    (["cone", "--length", "-3 cm", "--freq", "1 THz"], "length"),
+    (["cone", "--length", "3 kg", "--freq", "1 THz"], "--length"),
+    (["cone", "--length", "3 cm", "--freq", "abc"], "--freq"),
+    (["cone", "--angle", "0.1 deg", "--freq", "1 THz", "--humidity", "50 %"], "allowed"),
+    (["cone", "--length", "3 cm"], "--freq"),
+    (["cone", "--length", "3 cm", "--freq", "1 THz", "--humidity", "150 %"], "relative_humidity"),
+    (["nonsense"], "invalid choice"),
+])
+def test_bad_input_exits_2_with_one_line(args, needle, capsys):
+    code, out, err = run(*args, capsys=capsys)
+    assert code == 2
+    lines = err.strip().splitlines()
+    assert len(lines) == 1 and needle in lines[0] and "Traceback" not in err
+
+
+def test_help_shows_laser_safety():
+    out = subprocess.run([sys.executable, "-m", "thzarray.cli", "--help"], capture_output=True,
+                         text=True, check=True).stdout
+    for word in ("class-4", "eye and skin", "ozone", "IEC 60825-1", "ANSI Z136.1",
+                 "laser safety officer"):
+        assert word in out
+
+
+def test_check_valid_design(capsys):
+    code, out, _ = run("check", str(ROOT / "designs" / "single_filament.toml"), "--json",
+                       capsys=capsys)
+    assert code == 0 and json.loads(out)["valid"] is True
+
+
+def test_pattern_writes_and_refuses_to_overwrite(tmp_path, capsys):
+    design = tmp_path / "d.toml"
+    design.write_text("""
+[design]
+name = "tiny"
+[medium]
+kind = "vacuum"
+[filament]
+length = "5 cm"
+[observe]
+freq = ["1 THz"]
+theta = { start = "0 deg", stop = "30 deg", points = 31 }
+phi = { start = "0 deg", stop = "360 deg", points = 9 }
+[outputs]
+formats = ["png", "csv", "netcdf"]
+""")
+    out_dir = tmp_path / "out"
+    code, out, err = run("pattern", str(design), "--out", str(out_dir), "--json", capsys=capsys)
+    assert code == 0, err
+    files = json.loads(out)["files"]
+    assert {Path(f).suffix for f in files} == {".png", ".csv", ".nc"}
+    before = {f: Path(f).read_bytes() for f in files}
+    code, _, err = run("pattern", str(design), "--out", str(out_dir), capsys=capsys)
+    assert code == 2 and "--force" in err
+    assert all(Path(f).read_bytes() == b for f, b in before.items())
+    code, _, _ = run("pattern", str(design), "--out", str(out_dir), "--force", capsys=capsys)
+    assert code == 0
+    import xarray as xr
+
+    with xr.open_dataset(out_dir / "tiny_pattern.nc", engine="h5netcdf") as ds:
+        assert ds["energy_density"].attrs["units"].startswith("J/(Hz sr)")
+        assert ds["theta"].attrs["units"] == "rad"
+        # vacuum, 5 cm at 1 THz: the cut maximum is the exact cone angle to the grid step
+        step = np.radians(1.0)
+        assert abs(float(ds["cone_angle"][0]) - float(cone_angle(0.05, 1e12))) <= step
+
+
+def test_internal_error_exit_1(monkeypatch, capsys):
+    import thzarray.cli as cli
+
+    def boom(args):
+        raise RuntimeError("kaput")
+
+    monkeypatch.setattr(cli, "cmd_safety", boom)
+    code, _, err = run("safety", capsys=capsys)
+    assert code == 1 and "kaput" in err and "Traceback" not in err

@@ -1,0 +1,360 @@
+"""The ``thzarray`` command.
+
+Exit codes: 0 success; 2 bad input or usage (one clear line per problem on stderr, no
+traceback unless --debug); 1 internal error. Every subcommand takes --out DIR, --json and
+--force; files are written atomically and never overwrite existing files without --force.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+from pathlib import Path
+
+import numpy as np
+
+SAFETY = """\
+LASER SAFETY: the setups modelled here use class-4 femtosecond lasers. Direct and
+scattered beams are an eye and skin hazard; filaments carry the hazard far past the
+focus. Enclose the beam path, use interlocks, beam dumps and rated eyewear; never align
+by eye. Ionized air produces ozone and nitrogen oxides: ventilate or extract. Follow
+IEC 60825-1 / ANSI Z136.1 and your local laser safety officer."""
+
+SAFETY_SHORT = ("Laser safety: class-4 beams are an eye and skin hazard; enclose the beam, "
+                "ventilate ozone/NOx from ionized air, follow IEC 60825-1 / ANSI Z136.1 and "
+                "your laser safety officer (`thzarray safety`).")
+
+
+class UsageError(ValueError):
+    """Bad command-line usage (exit code 2)."""
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message):  # one line, exit 2
+        raise UsageError(f"{self.prog}: {message}")
+
+
+def _common(p):
+    p.add_argument("--out", type=Path, default=Path("thzarray-out"),
+                   help="directory for figures and tables (default: ./thzarray-out)")
+    p.add_argument("--json", action="store_true", help="print machine-readable results on stdout")
+    p.add_argument("--force", action="store_true", help="overwrite existing output files")
+    p.add_argument("--quiet", action="store_true", help="no progress bar or chatter")
+    p.add_argument("--debug", action="store_true", help="show tracebacks of internal errors")
+
+
+def _medium_flags(p):
+    g = p.add_argument_group("medium (default: air at 15 degC, 1013.25 hPa, dry)")
+    g.add_argument("--vacuum", action="store_true", help="vacuum instead of air")
+    g.add_argument("--temperature", default="15 degC", help="air temperature, e.g. '20 degC'")
+    g.add_argument("--pressure", default="1013.25 hPa", help="total pressure, e.g. '1000 hPa'")
+    g.add_argument("--humidity", default="0 %", help="relative humidity, e.g. '50 %%'")
+    g.add_argument("--laser-wavelength", default="800 nm", help="laser wavelength, e.g. '800 nm'")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = _Parser(prog="thzarray",
+                     description="THz emission from femtosecond-laser plasma filaments in air, "
+                                 "alone and in phased arrays.",
+                     epilog=SAFETY, formatter_class=argparse.RawDescriptionHelpFormatter)
+    parser.add_argument("--version", action="version", version="thzarray 0.1.0")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+
+    p = sub.add_parser("safety", help="print the laser-safety cautions")
+    p.set_defaults(func=cmd_safety)
+
+    p = sub.add_parser("cone", help="cone angle for a plasma length, or the length for an angle",
+                       formatter_class=argparse.RawDescriptionHelpFormatter,
+                       epilog="examples:\n"
+                              "  thzarray cone --length '30 cm' --freq '0.3 THz' --humidity '50 %'\n"
+                              "  thzarray cone --angle '3 deg' --freq '0.5 THz' --humidity '50 %'\n"
+                              + "\n" + SAFETY_SHORT)
+    what = p.add_mutually_exclusive_group(required=True)
+    what.add_argument("--length", help="plasma length, e.g. '30 cm'")
+    what.add_argument("--angle", help="wanted cone angle, e.g. '3 deg'")
+    p.add_argument("--freq", required=True, help="frequency, e.g. '0.3 THz'")
+    _medium_flags(p)
+    _common(p)
+    p.set_defaults(func=cmd_cone)
+
+    p = sub.add_parser("check", help="validate a design file (every problem, one line each)",
+                       epilog="example:\n  thzarray check designs/single_filament.toml",
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("design", type=Path)
+    _common(p)
+    p.set_defaults(func=cmd_check)
+
+    p = sub.add_parser("pattern", help="far-field sky maps, cuts through the cone, cone chart",
+                       epilog="example:\n  thzarray pattern designs/single_filament.toml "
+                              "--out results\n\n" + SAFETY_SHORT,
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("design", type=Path)
+    _common(p)
+    p.set_defaults(func=cmd_pattern)
+
+    p = sub.add_parser("demo", help="run every design in designs/ and write the gallery",
+                       epilog="example:\n  thzarray demo --out gallery --force\n\n" + SAFETY_SHORT,
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("--designs", type=Path, default=Path("designs"),
+                   help="directory of example designs (default: ./designs)")
+    _common(p)
+    p.set_defaults(func=cmd_demo)
+    return parser
+
+
+# --- helpers ------------------------------------------------------------------------------
+
+def _quantity(flag, value, kind):
+    from .units import UnitError, parse_quantity
+
+    try:
+        return parse_quantity(value, kind)
+    except UnitError as exc:
+        raise UsageError(f"--{flag}: {exc}") from None
+
+
+def _medium_from_flags(args):
+    from .medium import Medium
+
+    if args.vacuum:
+        return Medium.vacuum()
+    return Medium.air(temperature_c=_quantity("temperature", args.temperature, "temperature"),
+                      pressure_hpa=_quantity("pressure", args.pressure, "pressure") / 100,
+                      relative_humidity=_quantity("humidity", args.humidity, "fraction"),
+                      laser_wavelength_m=_quantity("laser-wavelength", args.laser_wavelength,
+                                                   "length"))
+
+
+def _emit(args, result: dict, text: str):
+    if args.json:
+        print(json.dumps(result, indent=2, sort_keys=True, default=_jsonable))
+    else:
+        print(text)
+
+
+def _jsonable(obj):
+    if isinstance(obj, np.ndarray):
+        return obj.tolist()
+    if isinstance(obj, (np.floating, np.integer)):
+        return obj.item()
+    if isinstance(obj, Path):
+        return str(obj)
+    raise TypeError(type(obj).__name__)
+
+
+def _say(args, text):
+    if not args.quiet and not args.json:
+        print(text, file=sys.stderr)
+
+
+# --- subcommands ---------------------------------------------------------------------------
+
+def cmd_safety(args):
+    print(SAFETY)
+    return 0
+
+
+def cmd_cone(args):
+    from .cone import cone_angle, length_for_cone
+
+    medium = _medium_from_flags(args)
+    freq = _quantity("freq", args.freq, "frequency")
+    base = {"freq_hz": freq, "n_group": medium.n_group, "n_thz": medium.n_thz}
+    if args.length is not None:
+        length = _quantity("length", args.length, "length")
+        angle = float(cone_angle(length, freq, medium))
+        result = dict(base, length_m=length, cone_angle_rad=angle,
+                      cone_angle_deg=float(np.degrees(angle)))
+        text = (f"cone angle {np.degrees(angle):.4g} deg for {length * 100:.4g} cm of plasma "
+                f"at {freq / 1e12:.4g} THz")
+    else:
+        angle = _quantity("angle", args.angle, "angle")
+        length = float(length_for_cone(angle, freq, medium))
+        result = dict(base, cone_angle_rad=angle, cone_angle_deg=float(np.degrees(angle)),
+                      length_m=length)
+        text = (f"plasma length {length * 100:.4g} cm gives a {np.degrees(angle):.4g} deg cone "
+                f"at {freq / 1e12:.4g} THz")
+    _emit(args, result, text)
+    return 0
+
+
+def cmd_check(args):
+    from .design import load_design
+
+    d = load_design(args.design)
+    result = {"design": d.name, "valid": True, "filaments": len(d.sources),
+              "grid_points": int(d.grid.freq.size * d.grid.theta.size * d.grid.phi.size)}
+    _emit(args, result, f"{args.design}: valid ({len(d.sources)} filament(s))")
+    return 0
+
+
+def _pattern_outputs(design, out: Path, force: bool, quiet: bool):
+    from . import jobs
+    from .plots import interactive, static
+    from .output import check_writable, write_text
+
+    slug = _slug(design.name)
+    chart = jobs.cone_chart(design)
+    pat = jobs.pattern(design)
+    title = design.name
+    files = []
+    planned = []
+    formats = set(design.formats)
+    for kind in ("cone_chart", "sky", "cuts"):
+        for ext in ("png", "pdf", "html"):
+            if ext in formats:
+                planned.append(out / f"{slug}_{kind}.{ext}")
+    if "csv" in formats:
+        planned.append(out / f"{slug}_cuts.csv")
+    if "netcdf" in formats:
+        planned.append(out / f"{slug}_pattern.nc")
+    for path in planned:
+        check_writable(path, force)  # refuse before computing or writing anything
+    out.mkdir(parents=True, exist_ok=True)
+    unit = "J/(Hz sr)" if pat.absolute else "J/(Hz sr) per (A s)^2"
+    label = f"energy density ({unit})"
+    cut = pat.energy_density.mean(axis=2)
+    figs = {
+        "cone_chart": (static.cone_chart(chart.lengths, chart.freqs, chart.angles,
+                                         f"{title}: cone angle vs plasma length",
+                                         chart.target_angle, chart.target_lengths),
+                       interactive.cone_chart(chart.lengths, chart.freqs, chart.angles,
+                                              f"{title}: cone angle vs plasma length",
+                                              chart.target_angle, chart.target_lengths)),
+        "sky": (static.sky_map(np.degrees(pat.sky_x), np.degrees(pat.sky_y), pat.sky[0],
+                               f"{title}: sky map at {pat.freq[0] / 1e12:.3g} THz",
+                               pol=(pat.sky_pol[0, 0], pat.sky_pol[1, 0]), label=label),
+                interactive.sky_map(np.degrees(pat.sky_x), np.degrees(pat.sky_y), pat.sky,
+                                    pat.freq, f"{title}: sky map",
+                                    pol=(pat.sky_pol[0], pat.sky_pol[1]), label=label)),
+        "cuts": (static.cone_cuts(pat.theta, pat.freq, cut, f"{title}: cuts through the cone",
+                                  label=label),
+                 interactive.cone_cuts(pat.theta, pat.freq, cut,
+                                       f"{title}: cuts through the cone", label=label)),
+    }
+    for kind, (sfig, ifig) in figs.items():
+        for ext in ("png", "pdf"):
+            if ext in formats:
+                files.append(static.save(sfig, out / f"{slug}_{kind}.{ext}", force))
+        if "html" in formats:
+            files.append(interactive.save(ifig, out / f"{slug}_{kind}.html", force))
+    if "csv" in formats:
+        lines = ["theta_rad," + ",".join(f"energy_density_{f / 1e12:.4g}THz" for f in pat.freq)]
+        for i, t in enumerate(pat.theta):
+            lines.append(f"{t:.9g}," + ",".join(f"{v:.9g}" for v in cut[:, i]))
+        files.append(write_text(out / f"{slug}_cuts.csv", "\n".join(lines) + "\n", force))
+    if "netcdf" in formats:
+        from .report import pattern_dataset, write_netcdf
+
+        files.append(write_netcdf(pattern_dataset(pat, design.name), out / f"{slug}_pattern.nc",
+                                  force))
+    summary = dict(chart.summary(), **pat.summary())
+    summary["design"] = design.name
+    summary["files"] = [str(f) for f in files]
+    return summary
+
+
+def _slug(name):
+    import re
+
+    return re.sub(r"[^a-z0-9]+", "_", name.lower()).strip("_") or "design"
+
+
+def cmd_pattern(args):
+    from .design import load_design
+
+    design = load_design(args.design)
+    summary = _pattern_outputs(design, args.out, args.force, args.quiet)
+    cones = ", ".join(f"{a:.3g} deg at {f / 1e12:.3g} THz"
+                      for a, f in zip(summary["cone_angle_deg"], summary["freq_hz"]))
+    _emit(args, summary, f"{design.name}: cone {cones}; wrote {len(summary['files'])} files "
+                         f"to {args.out}")
+    return 0
+
+
+def cmd_demo(args):
+    from .design import load_design
+    from .output import write_text
+
+    designs = sorted(Path(args.designs).glob("*.toml"))
+    if not designs:
+        raise UsageError(f"--designs: {str(args.designs)!r} holds no *.toml designs; allowed: a "
+                         "directory of design files")
+    _say(args, SAFETY)
+    results = []
+    for path in _progress(designs, args, "designs"):
+        design = load_design(path)
+        results.append(_pattern_outputs(design, args.out, args.force, args.quiet))
+    index = _gallery_index(results, args.out)
+    write_text(args.out / "index.html", index, force=True if args.force else False)
+    summary = {"designs": [r["design"] for r in results], "index": str(args.out / "index.html")}
+    _emit(args, summary, f"gallery written to {args.out / 'index.html'} "
+                         f"({sum(len(r['files']) for r in results)} files)")
+    return 0
+
+
+def _progress(items, args, what):
+    if args.quiet or args.json or not sys.stderr.isatty():
+        return items
+    from tqdm import tqdm
+
+    return tqdm(items, desc=what, unit=what.rstrip("s"), file=sys.stderr)
+
+
+def _gallery_index(results, out: Path) -> str:
+    import html
+
+    rows = []
+    for r in results:
+        links = []
+        for f in r["files"]:
+            name = Path(f).name
+            if name.endswith(".png"):
+                links.append(f'<a href="{html.escape(name)}"><img src="{html.escape(name)}" '
+                             f'alt="{html.escape(name)}" width="280"></a>')
+            else:
+                links.append(f'<a href="{html.escape(name)}">{html.escape(name)}</a>')
+        rows.append(f"<section><h2>{html.escape(r['design'])}</h2>\n<p>" + "\n".join(links)
+                    + "</p></section>")
+    return ("<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
+            "<title>thzarray gallery</title><style>body{font-family:sans-serif;margin:2em}"
+            "img{margin:4px;border:1px solid #ccc}</style></head><body>\n"
+            "<h1>thzarray gallery</h1>\n<p>Figures made by <code>make demo</code> from the "
+            "example designs (invented scenarios). "
+            + html.escape(SAFETY_SHORT) + "</p>\n" + "\n".join(rows) + "\n</body></html>\n")
+
+
+# --- entry point ---------------------------------------------------------------------------
+
+def main(argv=None) -> int:
+    parser = build_parser()
+    debug = "--debug" in (sys.argv[1:] if argv is None else argv)
+    try:
+        args = parser.parse_args(argv)
+        if getattr(args, "func", None) is None:
+            parser.print_help()
+            return 2
+        return args.func(args)
+    except (UsageError, ValueError) as exc:
+        if debug:
+            raise
+        from .design import DesignError
+
+        lines = exc.problems if isinstance(exc, DesignError) else str(exc).splitlines()
+        for line in lines:
+            print(f"thzarray: error: {line}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("thzarray: interrupted", file=sys.stderr)
+        return 130
+    except Exception as exc:  # an internal error: one line, traceback only with --debug
+        if debug:
+            raise
+        print(f"thzarray: internal error: {type(exc).__name__}: {exc} (rerun with --debug "
+              "for the traceback)", file=sys.stderr)
+        return 1
+
+
+if __name__ == "__main__":
+    sys.exit(main())
