@@ -246,3 +246,32 @@ def test_far_field_rejects_bad_sources():
         far_field([Filament(0.1), "x"], 1e12, 0.1, 0.0)
     with pytest.raises(ValueError, match="broadcast"):
         far_field(Filament(0.1), np.ones(3) * 1e12, np.ones(4), 0.0)
+
+
+@pytest.mark.parametrize("layout", ["ftp", "tpf", "pft", "tp", "f_only", "pointwise"])
+def test_outer_grid_path_matches_pointwise(layout, rng):
+    # The outer-grid kernel must give what the pointwise kernel gives on the broadcast grid,
+    # whatever axis order the caller chose. Sizes keep every phase below ~100 rad: one ulp of
+    # a phase of P rad is ~1e-16 P, so agreement to 1e-12 needs P << 1e4 (common practice,
+    # no source: floating-point rounding of large phases).
+    fils = [Filament(0.02, start=(0.001, 0, 0), axis=(0.1, 0.2, 1), delay=1e-12),
+            Filament(0.035, start=(-0.002, 0.001, 0.003), weight=0.5)]
+    f = np.array([0.1e12, 0.2e12, 0.3e12])
+    t = np.linspace(0.01, 0.5, 5)
+    p = np.linspace(0, 2 * np.pi, 4)
+    shaped = {
+        "ftp": (f[:, None, None], t[:, None], p),
+        "tpf": (f, t[:, None, None], p[:, None]),
+        "pft": (f[:, None], t, p[:, None, None]),
+        "tp": (0.5e12, t[:, None], p),
+        "f_only": (f, 0.2, 1.0),
+        "pointwise": (rng.uniform(0.1e12, 0.3e12, 7), rng.uniform(0, 3, 7), rng.uniform(0, 6, 7)),
+    }[layout]
+    got = far_field(fils, *shaped, HUMID)
+    bf, bt, bp = np.broadcast_arrays(*[np.asarray(x, float) for x in shaped])
+    ref = far_field(fils, bf.ravel(), bt.ravel(), bp.ravel(), HUMID)  # 1-D: pointwise path
+    assert got.shape == bf.shape
+    assert_allclose(got.e_theta.ravel(), ref.e_theta, rtol=1e-12, atol=1e-14 * abs(ref.e_theta).max())
+    assert_allclose(got.e_phi.ravel(), ref.e_phi, rtol=1e-12, atol=1e-14 * abs(ref.e_theta).max())
+    twin = far_field(fils, *shaped, HUMID, compiled=False)
+    assert_allclose(twin.e_theta, got.e_theta, rtol=1e-12, atol=1e-14 * abs(ref.e_theta).max())

@@ -26,6 +26,8 @@ from scipy.constants import c as _C
 __all__ = [
     "uniform_sum",
     "uniform_sum_numpy",
+    "uniform_grid",
+    "uniform_grid_numpy",
     "cubic_transform",
     "cubic_transform_numpy",
     "knot_jumps",
@@ -127,6 +129,83 @@ def uniform_sum_numpy(freq, theta, phi, length, start, axis, delay, weight, n_gr
         out_t += term * (th @ axis[n])
         out_p += term * (ph @ axis[n])
     return out_t, out_p
+
+
+@njit(cache=True, parallel=True)
+def _uniform_grid(freq, theta, phi, length, start, axis, delay, weight, n_group, n_thz,
+                  out_t, out_p):
+    nf = freq.shape[0]
+    nt = theta.shape[0]
+    nph = phi.shape[0]
+    nfil = length.shape[0]
+    two_pi_over_c = 2.0 * np.pi / _C
+    for idx in prange(nt * nph):
+        it = idx // nph
+        ip = idx - it * nph
+        st = np.sin(theta[it])
+        ct = np.cos(theta[it])
+        sp = np.sin(phi[ip])
+        cp = np.cos(phi[ip])
+        rx = st * cp
+        ry = st * sp
+        rz = ct
+        for k in range(nf):
+            out_t[k, it, ip] = 0.0
+            out_p[k, it, ip] = 0.0
+        for n in range(nfil):
+            ax = axis[n, 0]
+            ay = axis[n, 1]
+            az = axis[n, 2]
+            cos_psi = rx * ax + ry * ay + rz * az
+            r_dot = rx * start[n, 0] + ry * start[n, 1] + rz * start[n, 2]
+            at = ax * (ct * cp) + ay * (ct * sp) + az * (-st)
+            ap = -ax * sp + ay * cp
+            for k in range(nf):
+                w = 2.0 * np.pi * freq[k]
+                kg = two_pi_over_c * freq[k] * n_group
+                kt = two_pi_over_c * freq[k] * n_thz
+                half = 0.5 * (kg - kt * cos_psi) * length[n]
+                if abs(half) < 1e-6:
+                    sinc = 1.0 - half * half / 6.0
+                else:
+                    sinc = np.sin(half) / half
+                phase = half + w * delay[n] - kt * r_dot
+                amp = weight[n] * length[n] * sinc
+                z = complex(amp * np.cos(phase), amp * np.sin(phase))
+                out_t[k, it, ip] += z * at
+                out_p[k, it, ip] += z * ap
+
+
+def uniform_grid(freq, theta, phi, length, start, axis, delay, weight, n_group, n_thz):
+    """Compiled sums like :func:`uniform_sum` on the outer grid freq x theta x phi.
+
+    Parameters
+    ----------
+    freq, theta, phi : ndarray, shapes (F,), (T,), (P,)
+        Frequencies (Hz) and angles (rad); the grid is their outer product.
+    length, start, axis, delay, weight, n_group, n_thz : as for :func:`uniform_sum`.
+
+    Returns
+    -------
+    (ndarray, ndarray), complex, shape (F, T, P)
+        Sums for the theta-hat and phi-hat components (m). Trigonometry of the angles is
+        done once per axis value and each column's geometry once per direction.
+    """
+    shape = (freq.shape[0], theta.shape[0], phi.shape[0])
+    out_t = np.empty(shape, dtype=np.complex128)
+    out_p = np.empty(shape, dtype=np.complex128)
+    _uniform_grid(np.ascontiguousarray(freq, dtype=float), np.ascontiguousarray(theta, dtype=float),
+                  np.ascontiguousarray(phi, dtype=float), length, start, axis, delay, weight,
+                  float(n_group), float(n_thz), out_t, out_p)
+    return out_t, out_p
+
+
+def uniform_grid_numpy(freq, theta, phi, length, start, axis, delay, weight, n_group, n_thz):
+    """Numpy twin of :func:`uniform_grid` (the pointwise twin on the broadcast grid)."""
+    f, t, p = np.meshgrid(freq, theta, phi, indexing="ij")
+    out_t, out_p = uniform_sum_numpy(f.ravel(), t.ravel(), p.ravel(), length, start, axis,
+                                     delay, weight, n_group, n_thz)
+    return out_t.reshape(f.shape), out_p.reshape(f.shape)
 
 
 @njit(cache=True)

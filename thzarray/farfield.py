@@ -195,28 +195,65 @@ def far_field(sources, freq, theta, phi, medium: Medium | None = None,
     medium = Medium.vacuum() if medium is None else medium
     freq, theta, phi, shape = _check_angles(freq, theta, phi)
     size = int(np.prod(shape))
-    e_t = np.empty(size, dtype=complex)
-    e_p = np.empty(size, dtype=complex)
     uniform = [f for f in fils if f.is_uniform]
     profiled = [f for f in fils if not f.is_uniform]
     packed = _pack_uniform(uniform) if uniform else None
-    bf, bt, bp = (np.broadcast_to(x, shape) for x in (freq, theta, phi))
-    kernel = _kernels.uniform_sum if compiled else _kernels.uniform_sum_numpy
-    for i0 in range(0, size, _CHUNK_POINTS):
-        i1 = min(size, i0 + _CHUNK_POINTS)
-        f_c, t_c, p_c = (np.ascontiguousarray(x.flat[i0:i1]) for x in (bf, bt, bp))
-        acc_t = np.zeros(i1 - i0, dtype=complex)
-        acc_p = np.zeros(i1 - i0, dtype=complex)
-        if packed is not None:
-            acc_t, acc_p = kernel(f_c, t_c, p_c, *packed, medium.n_group, medium.n_thz)
-        for fil in profiled:
-            st, sp = _profiled_sum(fil, f_c, t_c, p_c, medium, compiled)
-            acc_t += st
-            acc_p += sp
-        pref = radiation_prefactor(f_c, medium, plasma)
-        e_t[i0:i1] = pref * acc_t
-        e_p[i0:i1] = pref * acc_p
-    return FarField(freq, theta, phi, e_t.reshape(shape), e_p.reshape(shape), medium)
+    e_t = np.zeros(size, dtype=complex)
+    e_p = np.zeros(size, dtype=complex)
+    outer = _outer_layout(shape, freq, theta, phi)
+    pointwise_uniform = packed is not None
+    if packed is not None and outer is not None:
+        grid = _kernels.uniform_grid if compiled else _kernels.uniform_grid_numpy
+        g_t, g_p = grid(freq.ravel(), theta.ravel(), phi.ravel(), *packed, medium.n_group,
+                        medium.n_thz)
+        e_t[:] = outer(g_t).ravel()
+        e_p[:] = outer(g_p).ravel()
+        pointwise_uniform = False
+    if pointwise_uniform or profiled:
+        bf, bt, bp = (np.broadcast_to(x, shape) for x in (freq, theta, phi))
+        kernel = _kernels.uniform_sum if compiled else _kernels.uniform_sum_numpy
+        for i0 in range(0, size, _CHUNK_POINTS):
+            i1 = min(size, i0 + _CHUNK_POINTS)
+            f_c, t_c, p_c = (np.ascontiguousarray(x.flat[i0:i1]) for x in (bf, bt, bp))
+            if pointwise_uniform:
+                acc_t, acc_p = kernel(f_c, t_c, p_c, *packed, medium.n_group, medium.n_thz)
+                e_t[i0:i1] += acc_t
+                e_p[i0:i1] += acc_p
+            for fil in profiled:
+                st, sp = _profiled_sum(fil, f_c, t_c, p_c, medium, compiled)
+                e_t[i0:i1] += st
+                e_p[i0:i1] += sp
+    pref = radiation_prefactor(freq, medium, plasma)
+    e_t = e_t.reshape(shape)
+    e_p = e_p.reshape(shape)
+    e_t *= pref
+    e_p *= pref
+    return FarField(freq, theta, phi, e_t, e_p, medium)
+
+
+def _outer_layout(shape, *arrays):
+    """If each array varies along at most one axis, and no two along the same one, return a
+    function mapping the (F, T, P) outer-grid result to ``shape``; otherwise None."""
+    ndim = len(shape)
+    axes = []
+    for arr in arrays:
+        dims = (1,) * (ndim - arr.ndim) + arr.shape
+        varying = [i for i, d in enumerate(dims) if d > 1]
+        if len(varying) > 1:
+            return None
+        axes.append(varying[0] if varying else None)
+    present = [a for a in axes if a is not None]
+    if len(set(present)) != len(present):
+        return None
+    keep = [i for i, a in enumerate(axes) if a is not None]
+    order = sorted(keep, key=lambda i: axes[i])
+
+    def arrange(result):
+        squeezed = result.reshape([result.shape[i] for i in keep])
+        perm = [keep.index(i) for i in order]
+        return np.transpose(squeezed, perm).reshape(shape)
+
+    return arrange
 
 
 # --- energy ---------------------------------------------------------------------------------

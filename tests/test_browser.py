@@ -1,0 +1,83 @@
+"""The interactive HTML figures render in a real browser (headless Chromium) without script
+errors. .ci/run installs Debian's chromium when it is missing; in CI the test never skips."""
+import os
+import shutil
+import subprocess
+import tempfile
+from pathlib import Path
+
+import pytest
+
+from thzarray.cli import main
+
+ROOT = Path(__file__).resolve().parents[1]
+CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
+if CHROMIUM is None and os.environ.get("CI"):
+    raise RuntimeError("CI run without chromium: .ci/run must install Debian's chromium")
+pytestmark = pytest.mark.skipif(CHROMIUM is None, reason="chromium not installed (CI installs it)")
+
+_CATCHER = ("<script>window.addEventListener('error', function (e) {"
+            "document.documentElement.setAttribute('data-script-errors',"
+            "(document.documentElement.getAttribute('data-script-errors') || '') + '|' + e.message);"
+            "});</script>")
+
+
+def render(html_path: Path) -> tuple[str, str]:
+    """Load a page in headless Chromium; return the DOM after scripts ran, and stderr."""
+    text = html_path.read_text()
+    probe = html_path.with_name(html_path.stem + "_probe.html")
+    probe.write_text(text.replace("<head>", "<head>" + _CATCHER, 1))
+    with tempfile.TemporaryDirectory() as profile:
+        out = subprocess.run(
+            [CHROMIUM, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic",
+             "--no-first-run", "--disable-background-networking", "--disable-component-update",
+             "--disable-sync", f"--user-data-dir={profile}", "--enable-logging=stderr", "--v=0",
+             "--virtual-time-budget=20000", "--dump-dom", probe.as_uri()],
+            capture_output=True, text=True, timeout=180)
+    return out.stdout, out.stderr
+
+
+def _check(dom, log):
+    assert 'class="main-svg"' in dom, "plotly drew no figure"
+    errors = dom.split('data-script-errors="')[1][:300] if 'data-script-errors="' in dom else ""
+    assert not errors, f"a script error was raised: {errors}"
+    assert "Uncaught" not in log
+
+
+def test_gallery_figures_render(tmp_path):
+    design = tmp_path / "d.toml"
+    design.write_text("""
+[design]
+name = "browser check"
+[medium]
+relative_humidity = "40 %"
+[filament]
+length = "20 cm"
+[observe]
+freq = ["0.3 THz", "0.6 THz"]
+theta = { start = "0 deg", stop = "8 deg", points = 41 }
+phi = { start = "0 deg", stop = "360 deg", points = 13 }
+[cone]
+target_angle = "3 deg"
+[outputs]
+formats = ["html"]
+""")
+    assert main(["pattern", str(design), "--out", str(tmp_path / "out"), "--quiet"]) == 0
+    pages = sorted((tmp_path / "out").glob("*.html"))
+    assert {p.stem.rsplit("_", 1)[-1] for p in pages} >= {"sky", "cuts", "chart"}
+    for page in pages:
+        dom, log = render(page)
+        _check(dom, log)
+        # the sky map carries a frequency slider with one step per frequency
+        if page.stem.endswith("sky"):
+            assert "0.3 THz" in dom and "0.6 THz" in dom
+
+
+def test_broken_page_is_detected(tmp_path):
+    # The probe itself can fail: a page whose script throws is reported.
+    page = tmp_path / "bad.html"
+    page.write_text("<html><head></head><body><script>undefinedFunction();</script></body></html>")
+    dom, _ = render(page)
+    assert 'data-script-errors="|' in dom and "undefinedFunction" in dom.split(
+        'data-script-errors="')[1]
+    assert 'class="main-svg"' not in dom
