@@ -16,7 +16,7 @@ from scipy.integrate import quad
 from benchmarks.common import machine
 from thzarray import Filament, Medium
 from thzarray.nearfield import field_at
-from thzarray.surfaces import plane
+from thzarray.surfaces import plane_scan
 
 
 def layout():
@@ -55,7 +55,7 @@ def run(n_side=512, n_freq=8, n_sample=4):
     fils = layout()
     freq = np.linspace(1e12 / n_freq, 1e12, n_freq)
     u = np.linspace(-0.1, 0.1, n_side)
-    surf = plane(2.0, u, u)
+    surf = plane_scan(2.0, u, u)
     field_at(fils, freq[:1], surf.points[:2, :2], medium)  # compile / load the cache
     t0 = time.perf_counter()
     e = field_at(fils, freq[:, None, None], surf.points, medium)

@@ -10,7 +10,7 @@ from thzarray.detectors import (BroadbandDetector, NarrowbandReceiver, detected_
                                 load_response_csv, passband_weights, received_energy,
                                 surface_degree_of_radial_polarization, surface_polarization)
 from thzarray.nearfield import field_at
-from thzarray.surfaces import plane
+from thzarray.surfaces import plane_scan
 
 DATA = Path(__file__).parent / "data"
 HUMID = Medium.air(relative_humidity=0.5)
@@ -42,7 +42,7 @@ def test_area_receiver_on_plane_wave():
 @pytest.fixture(scope="module")
 def grid():
     x = np.linspace(-0.03, 0.03, 241)
-    return plane(1.0, x, x)
+    return plane_scan(1.0, x, x)
 
 
 def test_gaussian_receiver_effective_area(grid):
@@ -94,7 +94,7 @@ def test_gaussian_receiver_two_lobes():
     the y axis (symmetry, no source), while along x the lobes remain."""
     fil = Filament(0.3)
     x = np.linspace(-0.04, 0.04, 41)
-    surf = plane(0.8, x, x)
+    surf = plane_scan(0.8, x, x)
     freq = np.array([0.29e12, 0.31e12])
     e = field_at(fil, freq[:, None, None], surf.points, HUMID)
     rx = NarrowbandReceiver(0.3e12, 0.02e12, beam_waist=3e-3)
@@ -134,7 +134,7 @@ def test_surface_polarization_of_a_column_is_radial():
     ring has Stokes S1/S0 = cos(2 phi) and degree 1/2 (Born & Wolf sec. 1.4.2)."""
     fil = Filament(0.2)
     x = np.linspace(-0.03, 0.03, 21)
-    surf = plane(0.6, x, x)
+    surf = plane_scan(0.6, x, x)
     freq = 0.3e12
     e = field_at(fil, freq, surf.points)
     deg = surface_degree_of_radial_polarization(e, surf.points, freq, weights=surf.weights)

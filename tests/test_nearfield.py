@@ -10,7 +10,8 @@ from thzarray import _near_kernels
 from thzarray.farfield import spectral_energy
 from thzarray.nearfield import (MIN_DISTANCE_WAVELENGTHS, field_at, fields_at,
                                 magnetic_field_at, spectral_fluence)
-from thzarray.surfaces import far_field_departure, line, plane, sphere, trapezoid_weights
+from thzarray.surfaces import (far_field_departure, line_scan, plane_scan, sphere_scan,
+                               trapezoid_weights)
 
 HUMID = Medium.air(relative_humidity=0.5)
 
@@ -204,7 +205,7 @@ def test_poynting_flux_through_sphere_equals_spectral_energy(radius):
     nphi = 48
     phi = 2 * np.pi * np.arange(nphi) / nphi
     th = np.arccos(mu)
-    surf = sphere(radius, th[::-1], phi)
+    surf = sphere_scan(radius, th[::-1], phi)
     near = fields_at(fils, freq, surf.points, medium)
     flux = np.sum(spectral_fluence(near.e, near.h) * surf.normal, axis=-1)
     total = radius**2 * np.sum(flux * wmu[::-1, None]) * 2 * np.pi / nphi
@@ -243,7 +244,7 @@ def test_plasma_scales_field_by_current_spectrum():
 
 def test_shapes_broadcast():
     fil = Filament(0.1)
-    surf = plane(0.3, np.linspace(-0.01, 0.01, 4), np.linspace(-0.02, 0.02, 3))
+    surf = plane_scan(0.3, np.linspace(-0.01, 0.01, 4), np.linspace(-0.02, 0.02, 3))
     freq = np.array([0.1e12, 0.2e12])[:, None, None]
     e = field_at(fil, freq, surf.points)
     assert e.shape == (2, 3, 4, 3)
@@ -276,24 +277,24 @@ def test_bad_inputs(kwargs, match):
 
 
 def test_surfaces_geometry():
-    surf = plane(2.0, [-1.0, 0.0, 1.0], [0.0, 0.5], normal=(0.0, 0.0, 2.0))
+    surf = plane_scan(2.0, [-1.0, 0.0, 1.0], [0.0, 0.5], normal=(0.0, 0.0, 2.0))
     assert surf.points.shape == (2, 3, 3)
     assert_allclose(surf.points[1, 2], [1.0, 0.5, 2.0])
     assert_allclose(surf.weights.sum(), 2.0 * 0.5)  # area of the sampled rectangle
-    tilted = plane(1.0, [0.0], [0.0, 1.0], normal=(1.0, 0.0, 0.0))
+    tilted = plane_scan(1.0, [0.0], [0.0, 1.0], normal=(1.0, 0.0, 0.0))
     u, v, n = tilted.axes
     assert_allclose(np.cross(u, v), n, atol=1e-15)
-    sph = sphere(2.0, np.linspace(0, np.pi, 201), np.linspace(0, 2 * np.pi, 101))
+    sph = sphere_scan(2.0, np.linspace(0, np.pi, 201), np.linspace(0, 2 * np.pi, 101))
     # sphere area 4 pi R^2 (trapezoid, error O(h^2))
     assert_allclose(sph.weights.sum(), 4 * np.pi * 4.0, rtol=1e-4)
     assert_allclose(np.linalg.norm(sph.points, axis=-1), 2.0)
-    ln = line((0.0, 0.0, 1.0), (0.0, 3.0, 0.0), np.linspace(0.0, 2.0, 5))
+    ln = line_scan((0.0, 0.0, 1.0), (0.0, 3.0, 0.0), np.linspace(0.0, 2.0, 5))
     assert_allclose(ln.points[-1], [0.0, 2.0, 1.0])
     assert_allclose(trapezoid_weights([0.0, 1.0, 3.0]), [0.5, 1.5, 1.0])
     with pytest.raises(ValueError, match="x_axis"):
-        plane(1.0, [0.0], [0.0], normal=(0, 0, 1), x_axis=(0, 0, 5))
+        plane_scan(1.0, [0.0], [0.0], normal=(0, 0, 1), x_axis=(0, 0, 5))
     with pytest.raises(ValueError, match="increasing"):
-        line((0, 0, 0), (1, 0, 0), [1.0, 0.0])
+        line_scan((0, 0, 0), (1, 0, 0), [1.0, 0.0])
 
 
 def test_far_field_departure_of_a_short_column():

@@ -179,7 +179,7 @@ def received_energy(receiver: NarrowbandReceiver, freq, field_, medium: Medium |
     medium : Medium, optional
         Sets n_T in the flux (vacuum by default).
     surface : Surface, optional
-        Required for a Gaussian-beam receiver: a :func:`~thzarray.surfaces.plane` whose grid
+        Required for a Gaussian-beam receiver: a :func:`~thzarray.surfaces.plane_scan` whose grid
         the field is sampled on (field shape (F, ny, nx, 3)); the field outside the grid is
         taken as zero.
 
@@ -202,7 +202,7 @@ def received_energy(receiver: NarrowbandReceiver, freq, field_, medium: Medium |
     if receiver.area is not None:
         return receiver.area * scale * np.tensordot(wts, np.abs(amp) ** 2, axes=1)
     if surface is None or len(surface.coords) != 2 or surface.points.ndim != 3:
-        raise ValueError("surface = a non-plane or missing surface; allowed: the plane() grid "
+        raise ValueError("surface = a non-plane or missing surface; allowed: the plane_scan() grid "
                          "the field is sampled on, for a beam_waist receiver")
     ys, xs = surface.coords
     if amp.shape[1:] != (ys.size, xs.size):

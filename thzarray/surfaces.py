@@ -34,9 +34,9 @@ __all__ = [
     "Surface",
     "band_weights",
     "far_field_departure",
-    "line",
-    "plane",
-    "sphere",
+    "line_scan",
+    "plane_scan",
+    "sphere_scan",
     "trapezoid_weights",
 ]
 
@@ -97,7 +97,8 @@ def _unit(name, value):
     return v / np.linalg.norm(v)
 
 
-def plane(distance, x, y, normal=(0.0, 0.0, 1.0), origin=(0.0, 0.0, 0.0), x_axis=None) -> Surface:
+def plane_scan(distance, x, y, normal=(0.0, 0.0, 1.0), origin=(0.0, 0.0, 0.0),
+               x_axis=None) -> Surface:
     """A detector plane at ``distance`` from ``origin`` along ``normal``, sampled on a grid.
 
     Parameters
@@ -138,7 +139,7 @@ def plane(distance, x, y, normal=(0.0, 0.0, 1.0), origin=(0.0, 0.0, 0.0), x_axis
     return Surface(pts, (u, v, n), (ys, xs), weights)
 
 
-def sphere(radius, theta, phi, center=(0.0, 0.0, 0.0)) -> Surface:
+def sphere_scan(radius, theta, phi, center=(0.0, 0.0, 0.0)) -> Surface:
     """Points on a sphere of ``radius`` about ``center`` at polar angles and azimuths.
 
     Parameters
@@ -168,7 +169,7 @@ def sphere(radius, theta, phi, center=(0.0, 0.0, 0.0)) -> Surface:
     return Surface(ctr + r * rh, (t, p, rh), (th, ph), weights)
 
 
-def line(start, direction, s) -> Surface:
+def line_scan(start, direction, s) -> Surface:
     """A line scan: points ``start + s * direction``.
 
     Parameters
