@@ -10,6 +10,12 @@ Which module owns what (arrows point down only; see DEVELOPERS.md):
 - ``farfield``      far field of one or many columns; spectral-angular energy; total energy.
 - ``cone``          cone angle <-> plasma length; reachable cones; band-averaged cone.
 - ``polarization``  local polarization, Stokes parameters, degree of radial polarization.
+- ``nearfield``     exact finite-distance fields (Jackson eq. 9.18 along each column), E and H.
+- ``_near_kernels`` compiled Filon-Legendre line integrals and their numpy twin; private.
+- ``surfaces``      plane, sphere and line scans; where the far field stops being valid.
+- ``atmosphere``    ITU-R P.676-12 Annex 1 line-by-line absorption of humid air.
+- ``detectors``     narrow-band and broadband receivers, polarization on a surface.
+- ``budget``        energy into a receiver versus range and humidity.
 - ``cli``           the ``thzarray`` command (top layer; the only module that prints).
 
 Importing the package never imports a plotting library. SI units and radians throughout.
@@ -22,10 +28,44 @@ from .filament import Filament
 from .medium import Medium
 from .plasma import Plasma
 from .polarization import PolarizationMap, degree_of_radial_polarization, polarization_map
+from .nearfield import NearField, field_at, fields_at, magnetic_field_at, spectral_fluence
+from .surfaces import (FarFieldDeparture, Surface, far_field_departure, line_scan, plane_scan,
+                       sphere_scan)
+from .atmosphere import (Air, attenuate, attenuation_coefficient, oxygen_attenuation,
+                         water_vapour_attenuation)
+from .detectors import (BroadbandDetector, NarrowbandReceiver, detected_energy,
+                        load_response_csv, received_energy, surface_degree_of_radial_polarization,
+                        surface_polarization)
+from .budget import RangeBudget, range_budget
 
 __version__ = "0.1.0"
 
 __all__ = [
+    "Air",
+    "BroadbandDetector",
+    "FarFieldDeparture",
+    "NarrowbandReceiver",
+    "NearField",
+    "RangeBudget",
+    "Surface",
+    "attenuate",
+    "attenuation_coefficient",
+    "detected_energy",
+    "far_field_departure",
+    "field_at",
+    "fields_at",
+    "line_scan",
+    "load_response_csv",
+    "magnetic_field_at",
+    "oxygen_attenuation",
+    "plane_scan",
+    "range_budget",
+    "received_energy",
+    "spectral_fluence",
+    "sphere_scan",
+    "surface_degree_of_radial_polarization",
+    "surface_polarization",
+    "water_vapour_attenuation",
     "ConeRange",
     "FarField",
     "Filament",

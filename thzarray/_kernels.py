@@ -133,7 +133,7 @@ def uniform_sum_numpy(freq, theta, phi, length, start, axis, delay, weight, n_gr
 
 @njit(cache=True, parallel=True)
 def _uniform_grid(freq, theta, phi, length, start, axis, delay, weight, n_group, n_thz,
-                  out_t, out_p):
+                  scale, out_t, out_p):
     nf = freq.shape[0]
     nt = theta.shape[0]
     nph = phi.shape[0]
@@ -174,9 +174,13 @@ def _uniform_grid(freq, theta, phi, length, start, axis, delay, weight, n_group,
                 z = complex(amp * np.cos(phase), amp * np.sin(phase))
                 out_t[k, it, ip] += z * at
                 out_p[k, it, ip] += z * ap
+        for k in range(nf):
+            out_t[k, it, ip] *= scale[k]
+            out_p[k, it, ip] *= scale[k]
 
 
-def uniform_grid(freq, theta, phi, length, start, axis, delay, weight, n_group, n_thz):
+def uniform_grid(freq, theta, phi, length, start, axis, delay, weight, n_group, n_thz,
+                 scale=None):
     """Compiled sums like :func:`uniform_sum` on the outer grid freq x theta x phi.
 
     Parameters
@@ -184,28 +188,34 @@ def uniform_grid(freq, theta, phi, length, start, axis, delay, weight, n_group, 
     freq, theta, phi : ndarray, shapes (F,), (T,), (P,)
         Frequencies (Hz) and angles (rad); the grid is their outer product.
     length, start, axis, delay, weight, n_group, n_thz : as for :func:`uniform_sum`.
+    scale : ndarray, complex, shape (F,), optional
+        Factor applied per frequency (e.g. the radiation prefactor); default 1.
 
     Returns
     -------
     (ndarray, ndarray), complex, shape (F, T, P)
-        Sums for the theta-hat and phi-hat components (m). Trigonometry of the angles is
+        Sums for the theta-hat and phi-hat components (m) times ``scale``. Trigonometry of the angles is
         done once per axis value and each column's geometry once per direction.
     """
     shape = (freq.shape[0], theta.shape[0], phi.shape[0])
     out_t = np.empty(shape, dtype=np.complex128)
     out_p = np.empty(shape, dtype=np.complex128)
+    scale = np.ones(shape[0], complex) if scale is None else np.broadcast_to(
+        np.asarray(scale, dtype=np.complex128), shape[:1]).copy()
     _uniform_grid(np.ascontiguousarray(freq, dtype=float), np.ascontiguousarray(theta, dtype=float),
                   np.ascontiguousarray(phi, dtype=float), length, start, axis, delay, weight,
-                  float(n_group), float(n_thz), out_t, out_p)
+                  float(n_group), float(n_thz), scale, out_t, out_p)
     return out_t, out_p
 
 
-def uniform_grid_numpy(freq, theta, phi, length, start, axis, delay, weight, n_group, n_thz):
+def uniform_grid_numpy(freq, theta, phi, length, start, axis, delay, weight, n_group, n_thz,
+                       scale=None):
     """Numpy twin of :func:`uniform_grid` (the pointwise twin on the broadcast grid)."""
     f, t, p = np.meshgrid(freq, theta, phi, indexing="ij")
     out_t, out_p = uniform_sum_numpy(f.ravel(), t.ravel(), p.ravel(), length, start, axis,
                                      delay, weight, n_group, n_thz)
-    return out_t.reshape(f.shape), out_p.reshape(f.shape)
+    scale = 1.0 if scale is None else np.asarray(scale)[:, None, None]
+    return out_t.reshape(f.shape) * scale, out_p.reshape(f.shape) * scale
 
 
 @njit(cache=True)

@@ -198,37 +198,38 @@ def far_field(sources, freq, theta, phi, medium: Medium | None = None,
     uniform = [f for f in fils if f.is_uniform]
     profiled = [f for f in fils if not f.is_uniform]
     packed = _pack_uniform(uniform) if uniform else None
-    e_t = np.zeros(size, dtype=complex)
-    e_p = np.zeros(size, dtype=complex)
     outer = _outer_layout(shape, freq, theta, phi)
-    pointwise_uniform = packed is not None
+    pref = radiation_prefactor(freq, medium, plasma)
     if packed is not None and outer is not None:
         grid = _kernels.uniform_grid if compiled else _kernels.uniform_grid_numpy
+        scale = np.broadcast_to(pref, freq.shape).ravel()
         g_t, g_p = grid(freq.ravel(), theta.ravel(), phi.ravel(), *packed, medium.n_group,
-                        medium.n_thz)
-        e_t[:] = outer(g_t).ravel()
-        e_p[:] = outer(g_p).ravel()
+                        medium.n_thz, scale)
+        e_t, e_p = outer(g_t), outer(g_p)  # views when the axes are already in order
+        if not profiled:
+            return FarField(freq, theta, phi, e_t, e_p, medium)
+        e_t, e_p = e_t.ravel(), e_p.ravel()
         pointwise_uniform = False
-    if pointwise_uniform or profiled:
-        bf, bt, bp = (np.broadcast_to(x, shape) for x in (freq, theta, phi))
-        kernel = _kernels.uniform_sum if compiled else _kernels.uniform_sum_numpy
-        for i0 in range(0, size, _CHUNK_POINTS):
-            i1 = min(size, i0 + _CHUNK_POINTS)
-            f_c, t_c, p_c = (np.ascontiguousarray(x.flat[i0:i1]) for x in (bf, bt, bp))
-            if pointwise_uniform:
-                acc_t, acc_p = kernel(f_c, t_c, p_c, *packed, medium.n_group, medium.n_thz)
-                e_t[i0:i1] += acc_t
-                e_p[i0:i1] += acc_p
-            for fil in profiled:
-                st, sp = _profiled_sum(fil, f_c, t_c, p_c, medium, compiled)
-                e_t[i0:i1] += st
-                e_p[i0:i1] += sp
-    pref = radiation_prefactor(freq, medium, plasma)
-    e_t = e_t.reshape(shape)
-    e_p = e_p.reshape(shape)
-    e_t *= pref
-    e_p *= pref
-    return FarField(freq, theta, phi, e_t, e_p, medium)
+    else:
+        e_t = np.zeros(size, dtype=complex)
+        e_p = np.zeros(size, dtype=complex)
+        pointwise_uniform = packed is not None
+    bf, bt, bp = (np.broadcast_to(x, shape) for x in (freq, theta, phi))
+    bpref = np.broadcast_to(pref, shape)
+    kernel = _kernels.uniform_sum if compiled else _kernels.uniform_sum_numpy
+    for i0 in range(0, size, _CHUNK_POINTS):
+        i1 = min(size, i0 + _CHUNK_POINTS)
+        f_c, t_c, p_c = (np.ascontiguousarray(x.flat[i0:i1]) for x in (bf, bt, bp))
+        p_f = bpref.flat[i0:i1]
+        if pointwise_uniform:
+            acc_t, acc_p = kernel(f_c, t_c, p_c, *packed, medium.n_group, medium.n_thz)
+            e_t[i0:i1] += p_f * acc_t
+            e_p[i0:i1] += p_f * acc_p
+        for fil in profiled:
+            st, sp = _profiled_sum(fil, f_c, t_c, p_c, medium, compiled)
+            e_t[i0:i1] += p_f * st
+            e_p[i0:i1] += p_f * sp
+    return FarField(freq, theta, phi, e_t.reshape(shape), e_p.reshape(shape), medium)
 
 
 def _outer_layout(shape, *arrays):
