@@ -10,6 +10,13 @@ Which module owns what (arrows point down only; see DEVELOPERS.md):
 - ``farfield``      far field of one or many columns; spectral-angular energy; total energy.
 - ``cone``          cone angle <-> plasma length; reachable cones; band-averaged cone.
 - ``polarization``  local polarization, Stokes parameters, degree of radial polarization.
+- ``layouts``       array layouts (line, grid, hexagonal, ring, random, staggered), CSV
+                    tables, array factor, factored element x array-factor path.
+- ``_array_kernels`` compiled array-factor loops and their numpy twins; private.
+- ``gain``          single / incoherent / phased / ideal N^2 gains, directivity, targets.
+- ``steering``      true-time and phase-only delays, squint, steering designer and report.
+- ``tolerance``     Monte Carlo of timing jitter and placement errors with the exact mean.
+- ``maps``          sky and (theta, freq) maps of an array, as arrays with their axes.
 - ``nearfield``     exact finite-distance fields (Jackson eq. 9.18 along each column), E and H.
 - ``_near_kernels`` compiled Filon-Legendre line integrals and their numpy twin; private.
 - ``surfaces``      plane, sphere and line scans; where the far field stops being valid.
@@ -37,10 +44,47 @@ from .detectors import (BroadbandDetector, NarrowbandReceiver, detected_energy,
                         load_response_csv, received_energy, surface_degree_of_radial_polarization,
                         surface_polarization)
 from .budget import RangeBudget, range_budget
+from . import layouts
+from .layouts import array_factor, array_far_field, factored_far_field, with_delays
+from .gain import ArrayGain, Direction, Receiver, array_factor_directivity, array_gain, directivity
+from .steering import (ConeLevel, ConeNullWarning, GratingLobe, SquintReport, SteeringDesign,
+                       SteeringReport, cone_level, design_steering, phase_only_delays, squint,
+                       steering_delays, steering_report)
+from .tolerance import ToleranceResult, tolerance
+from .maps import FrequencyMap, SkyMap, frequency_map, sky_map
 
 __version__ = "0.1.0"
 
 __all__ = [
+    "ArrayGain",
+    "ConeLevel",
+    "ConeNullWarning",
+    "Direction",
+    "FrequencyMap",
+    "GratingLobe",
+    "Receiver",
+    "SkyMap",
+    "SquintReport",
+    "SteeringDesign",
+    "SteeringReport",
+    "ToleranceResult",
+    "array_factor",
+    "array_factor_directivity",
+    "array_far_field",
+    "array_gain",
+    "cone_level",
+    "design_steering",
+    "directivity",
+    "factored_far_field",
+    "frequency_map",
+    "layouts",
+    "phase_only_delays",
+    "sky_map",
+    "squint",
+    "steering_delays",
+    "steering_report",
+    "tolerance",
+    "with_delays",
     "Air",
     "BroadbandDetector",
     "FarFieldDeparture",

@@ -20,7 +20,7 @@ def _describe(value) -> str:
     if arr.ndim == 0:
         return repr(arr.item())
     bad = arr.ravel()
-    return f"array of shape {arr.shape} (e.g. {bad[0]!r})"
+    return f"array of shape {arr.shape} (e.g. {bad[0].item()!r})"
 
 
 def _fail(name: str, value, allowed: str) -> ValueError:
@@ -51,8 +51,8 @@ def as_float_array(
         raise _fail(name, "an empty array", allowed)
     finite = np.isfinite(arr)
     if not finite.all():
-        first = arr[~finite].ravel()[0]
-        raise _fail(name, _describe(first) if arr.ndim == 0 else f"{first!r} (in {_describe(arr)})",
+        first = arr[~finite].ravel()[0].item()
+        raise _fail(name, repr(first) if arr.ndim == 0 else f"{first!r} (in {_describe(arr)})",
                     allowed)
     for bound, is_open, is_low in ((low, low_open, True), (high, high_open, False)):
         if bound is None:
@@ -62,7 +62,7 @@ def as_float_array(
         else:
             bad = arr >= bound if is_open else arr > bound
         if bad.any():
-            first = arr[bad].ravel()[0]
+            first = arr[bad].ravel()[0].item()
             where = "" if arr.ndim == 0 else f" (in {_describe(arr)})"
             raise _fail(name, f"{first!r}{where}", allowed)
     return arr

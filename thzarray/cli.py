@@ -93,6 +93,21 @@ def build_parser() -> argparse.ArgumentParser:
     _common(p)
     p.set_defaults(func=cmd_pattern)
 
+    p = sub.add_parser("map", help="what the receiver records on a detector plane (exact near "
+                                   "field) beside the far-field prediction",
+                       epilog="example:\n  thzarray map designs/lab_receiver.toml --out results\n\n"
+                              + SAFETY_SHORT, formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("design", type=Path)
+    _common(p)
+    p.set_defaults(func=cmd_map)
+
+    p = sub.add_parser("budget", help="energy into the receiver versus range and humidity",
+                       epilog="example:\n  thzarray budget designs/lab_receiver.toml --json\n\n"
+                              + SAFETY_SHORT, formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("design", type=Path)
+    _common(p)
+    p.set_defaults(func=cmd_budget)
+
     p = sub.add_parser("demo", help="run every design in designs/ and write the gallery",
                        epilog="example:\n  thzarray demo --out gallery --force\n\n" + SAFETY_SHORT,
                        formatter_class=argparse.RawDescriptionHelpFormatter)
@@ -255,6 +270,48 @@ def _pattern_outputs(design, out: Path, force: bool, quiet: bool):
     return summary
 
 
+def _write_all(out: Path, force: bool, formats, figures=(), tables=(), datasets=()):
+    """Write figures (name, static_fig, html_fig), CSV tables (name, text) and netCDF
+    datasets (name, dataset); every path is checked before anything is written."""
+    from .output import check_writable, write_text
+    from .plots import interactive, static
+
+    formats = set(formats)
+    plan = []
+    for name, sfig, ifig in figures:
+        plan += [(out / f"{name}.{ext}", "static", sfig) for ext in ("png", "pdf") if ext in formats]
+        if "html" in formats:
+            plan.append((out / f"{name}.html", "html", ifig))
+    if "csv" in formats:
+        plan += [(out / f"{name}.csv", "csv", text) for name, text in tables]
+    if "netcdf" in formats:
+        plan += [(out / f"{name}.nc", "nc", ds) for name, ds in datasets]
+    for path, _, _ in plan:
+        check_writable(path, force)
+    out.mkdir(parents=True, exist_ok=True)
+    written = []
+    for path, kind, obj in plan:
+        obj = obj() if callable(obj) else obj
+        if kind == "static":
+            written.append(static.save(obj, path, force))
+        elif kind == "html":
+            written.append(interactive.save(obj, path, force))
+        elif kind == "csv":
+            written.append(write_text(path, obj, force))
+        else:
+            from .report import write_netcdf
+
+            written.append(write_netcdf(obj, path, force))
+    return [str(p) for p in written]
+
+
+def _csv(header, columns):
+    lines = [",".join(header)]
+    for row in zip(*columns):
+        lines.append(",".join(f"{v:.9g}" for v in row))
+    return "\n".join(lines) + "\n"
+
+
 def _slug(name):
     import re
 
@@ -271,6 +328,92 @@ def cmd_pattern(args):
     _emit(args, summary, f"{design.name}: cone {cones}; wrote {len(summary['files'])} files "
                          f"to {args.out}")
     return 0
+
+
+def cmd_map(args):
+    from . import jobs
+    from .design import load_design
+    from .plots import interactive, static
+
+    design = load_design(args.design)
+    with _spinner(args, "near field"):
+        m = jobs.detector_map(design)
+    slug = _slug(design.name)
+    unit = "J" if m.absolute else "J per (A s)^2"
+    titles = [f"exact field at {m.distance:g} m", "far-field prediction"]
+    title = f"{design.name}: receiver map"
+    mid = len(m.y) // 2
+    import xarray as xr
+
+    ds = xr.Dataset({"near": (("y", "x"), m.near, {"units": unit}),
+                     "far": (("y", "x"), m.far, {"units": unit})},
+                    coords={"x": ("x", m.x, {"units": "m"}), "y": ("y", m.y, {"units": "m"})},
+                    attrs={"design": design.name, "plane_distance_m": m.distance})
+    files = _write_all(
+        args.out, args.force, design.formats,
+        figures=[(f"{slug}_map", lambda: static.plane_maps(m.x, m.y, [m.near, m.far], titles,
+                                                            title, f"energy ({unit})"),
+                  lambda: interactive.plane_maps(m.x, m.y, [m.near, m.far], titles, title,
+                                                 f"energy ({unit})"))],
+        tables=[(f"{slug}_map_cut", _csv(["x_m", "near_energy", "far_energy"],
+                                         [m.x, m.near[mid], m.far[mid]]))],
+        datasets=[(f"{slug}_map", ds)])
+    summary = dict(m.summary(), design=design.name, files=files)
+    ratio = summary["near_over_far_peak"]
+    _emit(args, summary, f"{design.name}: peak {summary['near_field_peak']['energy']:.3g} {unit} "
+                         f"(far-field prediction x{1 / ratio if ratio else float('nan'):.3g}); "
+                         f"wrote {len(files)} files to {args.out}")
+    return 0
+
+
+def cmd_budget(args):
+    from . import jobs
+    from .design import load_design
+    from .plots import interactive, static
+
+    design = load_design(args.design)
+    b = jobs.budget(design)
+    slug = _slug(design.name)
+    unit = "J" if design.plasma is not None else "J per (A s)^2"
+    labels = [f"RH {100 * h:.0f} %" for h in b.relative_humidity]
+    title = f"{design.name}: range budget"
+    cols = [b.distance] + [e for e in b.energy] + [a for a in b.absorption_db]
+    header = (["distance_m"] + [f"energy_rh{100 * h:.0f}" for h in b.relative_humidity]
+              + [f"absorption_db_rh{100 * h:.0f}" for h in b.relative_humidity])
+    files = _write_all(
+        args.out, args.force, design.formats,
+        figures=[(f"{slug}_budget",
+                  lambda: static.line_chart(b.distance, list(b.energy), labels, "distance (m)",
+                                            f"energy into receiver ({unit})", title, logy=True),
+                  lambda: interactive.line_chart(b.distance, list(b.energy), labels,
+                                                 "distance (m)", f"energy into receiver ({unit})",
+                                                 title, logy=True))],
+        tables=[(f"{slug}_budget", _csv(header, cols))])
+    summary = {"design": design.name, "distance_m": b.distance.tolist(),
+               "relative_humidity": b.relative_humidity.tolist(), "energy": b.energy.tolist(),
+               "absorption_db": b.absorption_db.tolist(), "theta_rad": float(b.theta),
+               "energy_unit": unit, "files": files}
+    last = ", ".join(f"{lab}: {e[-1]:.3g} {unit} ({a[-1]:.3g} dB absorbed)"
+                     for lab, e, a in zip(labels, b.energy, b.absorption_db))
+    _emit(args, summary, f"{design.name} at {b.distance[-1]:g} m: {last}")
+    return 0
+
+
+class _spinner:
+    """A progress line for a single long step (off with --quiet, --json or no terminal)."""
+
+    def __init__(self, args, what):
+        self.on = not (args.quiet or args.json or not sys.stderr.isatty())
+        self.what = what
+
+    def __enter__(self):
+        if self.on:
+            print(f"computing {self.what} ...", file=sys.stderr, end="", flush=True)
+
+    def __exit__(self, *exc):
+        if self.on:
+            print(" done", file=sys.stderr)
+        return False
 
 
 def cmd_demo(args):

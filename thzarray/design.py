@@ -101,6 +101,34 @@ SCHEMA: dict[str, dict[str, Spec]] = {
         "lengths": _Q("grid:length", {"start": 0.01, "stop": 2.0, "points": 200},
                       low=0.0, low_open=True, high=1e3, doc="plasma lengths of the chart"),
     },
+    "receiver": {
+        "kind": _Q("choice", "narrowband", choices=("narrowband", "broadband"),
+                   doc="narrowband (one linear polarization) or broadband power detector"),
+        "center_freq": _Q("frequency", None, low=0.0, low_open=True, high=1e14),
+        "bandwidth": _Q("frequency", None, low=0.0, low_open=True, high=1e14),
+        "polarization": _Q("vector:number", (1.0, 0.0, 0.0), doc="narrowband: [x, y, z]"),
+        "area": _Q("area", None, low=0.0, low_open=True, high=1.0, doc="effective area"),
+        "beam_waist": _Q("length", None, low=0.0, low_open=True, high=1.0,
+                         doc="Gaussian acceptance beam waist (1/e^2 intensity radius)"),
+        "response_csv": _Q("str", None, doc="broadband: CSV of the spectral response"),
+        "band_points": _Q("int", 11, low=2, high=4096, doc="frequencies sampling the band"),
+    },
+    "plane": {
+        "distance": _Q("length", required=True, low=0.0, low_open=True, high=1e5,
+                       doc="distance of the plane's centre from origin along normal"),
+        "normal": _Q("vector:number", (0.0, 0.0, 1.0)),
+        "origin": _Q("vector:length", (0.0, 0.0, 0.0)),
+        "x": _Q("grid:length", {"start": -0.1, "stop": 0.1, "points": 81}, low=-1e4, high=1e4),
+        "y": _Q("grid:length", {"start": -0.1, "stop": 0.1, "points": 81}, low=-1e4, high=1e4),
+    },
+    "budget": {
+        "distances": _Q("grid:length", {"start": 1.0, "stop": 50.0, "points": 50},
+                        low=0.0, low_open=True, high=1e6),
+        "relative_humidity": _Q("list:fraction", (0.0, 0.5, 1.0), low=0.0, high=1.0),
+        "theta": _Q("angle", None, low=0.0, high=math.pi,
+                    doc="receiver direction; default the cone angle at the band centre"),
+        "phi": _Q("angle", 0.0, low=-10 * math.pi, high=10 * math.pi),
+    },
     "outputs": {
         "formats": _Q("list:str", ("png", "html", "csv"),
                       doc="any of png, pdf, html, csv, netcdf"),
@@ -135,6 +163,10 @@ class Design:
     cone_band: tuple | None = None
     cone_lengths: np.ndarray | None = None
     formats: tuple = ("png", "html", "csv")
+    receiver: object = None
+    band: np.ndarray | None = None
+    plane: dict | None = None
+    budget: dict | None = None
     path: Path | None = None
     raw: dict = field(default_factory=dict, repr=False)
 
@@ -191,6 +223,12 @@ class _Checker:
         if kind == "str":
             if not isinstance(value, str):
                 self.fail(path, value, "a string")
+                return None
+            return value
+        if kind == "int":
+            if not isinstance(value, int) or isinstance(value, bool) or not (
+                    spec.low <= value <= spec.high):
+                self.fail(path, value, f"a whole number from {spec.low:g} to {spec.high:g}")
                 return None
             return value
         if kind == "choice":
@@ -323,6 +361,48 @@ def _filament(checker, path, f):
                   delay=f["delay"], weight=f["weight"], profile=profile)
 
 
+def _receiver(checker, data, path):
+    """The receiver object and the frequencies sampling its band (None, None if absent)."""
+    if "receiver" not in data:
+        return None, None
+    r = _section(checker, data, "receiver")
+    if r is None or r["center_freq"] is None or r["bandwidth"] is None:
+        if r is not None and (r["center_freq"] is None or r["bandwidth"] is None):
+            checker.problems.append("receiver: needs center_freq and bandwidth; allowed: both "
+                                    "given, e.g. '0.1 THz' and '10 GHz'")
+        return None, None
+    lo, hi = r["center_freq"] - r["bandwidth"] / 2, r["center_freq"] + r["bandwidth"] / 2
+    if lo <= 0:
+        checker.problems.append(f"receiver.bandwidth: {data['receiver']['bandwidth']!r} is not "
+                                "allowed; allowed: less than twice center_freq")
+        return None, None
+    band = np.linspace(lo, hi, r["band_points"] or 11)
+    from .detectors import BroadbandDetector, NarrowbandReceiver
+
+    if r["kind"] == "broadband":
+        if r["response_csv"] is None:
+            checker.problems.append("receiver.response_csv: missing; allowed: a CSV file of "
+                                    "the detector's spectral response (broadband kind)")
+            return None, None
+        if r["area"] is None:
+            checker.problems.append("receiver.area: missing; allowed: the broadband detector's "
+                                    "effective area, e.g. '1 cm^2'")
+            return None, None
+        csv = Path(r["response_csv"])
+        if not csv.is_absolute() and path is not None:
+            csv = Path(path).parent / csv
+        return _build(checker, "receiver.response_csv", BroadbandDetector.from_csv, csv,
+                      area=r["area"]), band
+    if (r["area"] is None) == (r["beam_waist"] is None):
+        checker.problems.append("receiver: give exactly one of area and beam_waist; allowed: "
+                                "e.g. area = '1 mm^2' or beam_waist = '5 mm'")
+        return None, None
+    if r["polarization"] is None:
+        return None, None
+    return _build(checker, "receiver", NarrowbandReceiver, r["center_freq"], r["bandwidth"],
+                  polarization=r["polarization"], area=r["area"], beam_waist=r["beam_waist"]), band
+
+
 def parse_design(data: dict, path: Path | None = None) -> Design:
     """Validate a parsed TOML document and build the design (raises DesignError)."""
     checker = _Checker()
@@ -385,6 +465,9 @@ def parse_design(data: dict, path: Path | None = None) -> Design:
         if fmt not in _OUTPUT_FORMATS:
             checker.problems.append(f"outputs.formats: {fmt!r} is not allowed{_suggest(fmt, _OUTPUT_FORMATS)}; "
                                     f"allowed: {', '.join(_OUTPUT_FORMATS)}")
+    receiver, band = _receiver(checker, data, path)
+    plane = _section(checker, data, "plane") if "plane" in data else None
+    budget = _section(checker, {"budget": data.get("budget", {})}, "budget")
     if checker.problems:
         raise DesignError(checker.problems)
     if any(s is None for s in sources) or medium is None or grid is None or head is None:
@@ -394,7 +477,8 @@ def parse_design(data: dict, path: Path | None = None) -> Design:
                   plasma=plasma, sources=tuple(sources), grid=grid,
                   cone_target=cone.get("target_angle"),
                   cone_band=None if band is None else (float(band[0]), float(band[1])),
-                  cone_lengths=lengths, formats=tuple(formats), path=path, raw=data)
+                  cone_lengths=lengths, formats=tuple(formats), receiver=receiver, band=band,
+                  plane=plane, budget=budget, path=path, raw=data)
 
 
 def load_design(path) -> Design:

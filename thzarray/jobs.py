@@ -127,3 +127,122 @@ def pattern(design: Design, sky_points: int = 121) -> PatternResult:
 def reachable_text(freq, medium) -> str:
     """Human description of the cone angles reachable at ``freq``."""
     return cone_range(freq, medium).describe()
+
+
+@dataclass(frozen=True, eq=False)
+class DetectorMap:
+    """What the design's receiver records on the design's plane, beside the far field.
+
+    Attributes
+    ----------
+    x, y : (NX,), (NY,) in-plane coordinates (m); freq : (F,) band samples (Hz)
+    near, far : (NY, NX) energy per pulse (J, or per (A s)^2 without a plasma) from the exact
+        finite-distance field and from the far-field prediction at the same points
+    """
+
+    x: np.ndarray
+    y: np.ndarray
+    freq: np.ndarray
+    near: np.ndarray
+    far: np.ndarray
+    distance: float
+    absolute: bool
+
+    def summary(self) -> dict:
+        def peak(m):
+            j, i = np.unravel_index(np.argmax(m), m.shape)
+            return {"x_m": float(self.x[i]), "y_m": float(self.y[j]), "energy": float(m[j, i])}
+
+        return {"plane_distance_m": self.distance, "near_field_peak": peak(self.near),
+                "far_field_peak": peak(self.far),
+                "near_over_far_peak": float(self.near.max() / self.far.max())
+                if self.far.max() > 0 else None,
+                "energy_unit": "J" if self.absolute else "J per (A s)^2"}
+
+
+def _needs(design: Design, *what):
+    missing = [w for w in what if getattr(design, w) is None]
+    if missing:
+        raise ValueError(f"design {design.name!r}: this job needs section(s) "
+                         + ", ".join(f"[{m}]" for m in missing) + "; allowed: add them")
+
+
+def _receiver_energy(design, freq, field, surface):
+    from .detectors import BroadbandDetector, detected_energy, received_energy
+
+    if isinstance(design.receiver, BroadbandDetector):
+        return detected_energy(design.receiver, freq, field, design.medium)
+    if design.receiver.beam_waist is not None:
+        return received_energy(design.receiver, freq, field, design.medium, surface)
+    return received_energy(design.receiver, freq, field, design.medium)
+
+
+def detector_map(design: Design) -> DetectorMap:
+    """Exact finite-distance receiver map on the design's plane, and the far-field prediction.
+
+    Both include ITU-R P.676 absorption of the design's air over the path from the origin.
+    """
+    from .atmosphere import Air, attenuate
+    from .nearfield import field_at
+    from .surfaces import plane_scan
+
+    _needs(design, "receiver", "plane")
+    pl = design.plane
+    surf = plane_scan(pl["distance"], pl["x"], pl["y"], normal=pl["normal"], origin=pl["origin"])
+    freq = design.band
+    pts = surf.points
+    e_near = field_at(design.sources, freq[:, None, None], pts, design.medium, design.plasma)
+    # Far-field prediction seen from the sources' centre (the best far-field reference).
+    centre = np.mean([0.5 * (np.asarray(f.start) + f.end) for f in design.sources], axis=0)
+    rel = pts - centre
+    dist = np.linalg.norm(rel, axis=-1)
+    theta = np.arccos(np.clip(rel[..., 2] / dist, -1, 1))
+    phi = np.arctan2(rel[..., 1], rel[..., 0])
+    ff = far_field(design.sources, freq[:, None, None], theta, phi, design.medium, design.plasma)
+    e_far = ff.cartesian / dist[..., None]
+    air = _air(design)
+    if air is not None:
+        dist = np.linalg.norm(pts - np.asarray(design.sources[0].start), axis=-1)
+        e_near = attenuate(e_near, freq[:, None, None], dist, air)
+        e_far = attenuate(e_far, freq[:, None, None], dist, air)
+    near = _receiver_energy(design, freq, e_near, surf)
+    far = _receiver_energy(design, freq, e_far, surf)
+    return DetectorMap(np.asarray(pl["x"]), np.asarray(pl["y"]), freq, near, far,
+                       float(pl["distance"]), design.plasma is not None)
+
+
+def _air(design: Design):
+    """The design's air for P.676, or None in vacuum / custom media."""
+    from .atmosphere import Air
+
+    m = design.raw.get("medium", {}) or {}
+    if m.get("kind", "air") != "air":
+        return None
+    from .units import parse_quantity
+
+    t = parse_quantity(m.get("temperature", 15.0), "temperature")
+    p = parse_quantity(m.get("pressure", 101325.0), "pressure") / 100
+    rh = parse_quantity(m.get("relative_humidity", 0.0), "fraction")
+    return Air.from_relative_humidity(t, p, rh)
+
+
+def budget(design: Design):
+    """Range budget of the design: energy into its receiver versus distance and humidity."""
+    from .budget import range_budget
+    from .units import parse_quantity
+
+    _needs(design, "receiver")
+    b = design.budget
+    freq = design.band
+    theta = b["theta"]
+    if theta is None:
+        centre = float(freq[len(freq) // 2])
+        theta = float(cone_angle(design.sources[0].length, centre, design.medium))
+    m = design.raw.get("medium", {}) or {}
+    t = parse_quantity(m.get("temperature", 15.0), "temperature")
+    p = parse_quantity(m.get("pressure", 101325.0), "pressure") / 100
+    lw = parse_quantity(m.get("laser_wavelength", 800e-9), "length")
+    return range_budget(design.sources, design.receiver, freq, b["distances"],
+                        np.asarray(b["relative_humidity"], float), theta, b["phi"],
+                        temperature_c=t, pressure_hpa=p, plasma=design.plasma,
+                        laser_wavelength=lw)

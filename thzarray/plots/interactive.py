@@ -119,3 +119,22 @@ def line_chart(x, ys, labels, xlabel, ylabel, title, logy=False, slider_label=No
                                   currentvalue=dict(prefix=f"{slider_label}: "))]
     fig.update_layout(**layout)
     return fig
+
+
+def plane_maps(x, y, maps, titles, title, label, unit_scale=1e3, unit="mm"):
+    """Detector-plane maps, one per button (x, y in m; each map shape (NY, NX))."""
+    fig = go.Figure()
+    vmax = max(float(np.nanmax(m)) for m in maps)
+    for k, (m, t) in enumerate(zip(maps, titles)):
+        fig.add_trace(go.Heatmap(x=x * unit_scale, y=y * unit_scale, z=m, colorscale=_SCALE,
+                                 zmin=0, zmax=vmax, visible=(k == 0), name=t,
+                                 colorbar=dict(title=label)))
+    buttons = [dict(label=t, method="update",
+                    args=[{"visible": [i == k for i in range(len(maps))]}, {"title": f"{title}: {t}"}])
+               for k, t in enumerate(titles)]
+    fig.update_layout(title=f"{title}: {titles[0]}", template="plotly_white",
+                      updatemenus=[dict(type="buttons", direction="right", buttons=buttons,
+                                        x=0.0, y=1.12, xanchor="left")],
+                      xaxis=dict(title=f"x ({unit})", scaleanchor="y"),
+                      yaxis=dict(title=f"y ({unit})"))
+    return fig

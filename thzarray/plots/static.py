@@ -139,3 +139,21 @@ def _nice_rings(rmax):
             step *= mult
             break
     return np.arange(step, rmax + 1e-9, step)
+
+
+def plane_maps(x, y, maps, titles, title, label, unit_scale=1e3, unit="mm"):
+    """Side-by-side maps on a detector plane (x, y in m; each map shape (NY, NX))."""
+    fig = Figure(figsize=(5.0 * len(maps) + 0.6, 4.4), layout="constrained")
+    vmax = max(float(np.nanmax(m)) for m in maps)
+    axes = fig.subplots(1, len(maps), squeeze=False, sharey=True)[0]
+    for n, (ax, m, t) in enumerate(zip(axes, maps, titles)):
+        mesh = ax.pcolormesh(x * unit_scale, y * unit_scale, m, cmap=_CMAP, shading="auto",
+                             vmin=0, vmax=vmax)
+        ax.set_aspect("equal")
+        ax.set_title(t, fontsize=10)
+        ax.set_xlabel(f"x ({unit})")
+        if n == 0:
+            ax.set_ylabel(f"y ({unit})")
+    fig.colorbar(mesh, ax=list(axes), label=label)
+    fig.suptitle(title)
+    return fig
