@@ -1,0 +1,212 @@
+import numpy as np
+import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+from numpy.testing import assert_allclose
+from scipy.constants import c, electron_volt, hbar, k as k_boltzmann
+from scipy.integrate import quad, solve_ivp
+
+from thzarray import Filament, Medium, Plasma
+from thzarray.cone import band_cone_angle, cone_angle
+from thzarray.laser import (CLAMPED_INTENSITY, MARBURGER_MIN_POWER_RATIO, N2_AIR,
+                            N2_AIR_SPREAD, collapse_distance, critical_power, electron_density,
+                            focused_beam, focusing_chart, focusing_for_cone, keldysh_parameter,
+                            peak_power, plasma_from_laser, ponderomotive_energy)
+
+LAMBDA = 800e-9
+
+
+def marburger_zc(ratio, w0, wavelength=LAMBDA):
+    """Marburger, Prog. Quantum Electron. 4, 35 (1975): z_c = 0.367 z_R / sqrt(...)."""
+    z_r = np.pi * w0**2 / wavelength
+    return 0.367 * z_r / np.sqrt((np.sqrt(ratio) - 0.852) ** 2 - 0.0219)
+
+
+def test_critical_power_marburger():
+    # REFERENCES.md / Marburger (1975): P_cr = 3.77 lambda^2 / (8 pi n0 n2);
+    # n2 = 3.2e-19 cm^2/W at 800 nm -> 3.0 GW (computed).
+    n2 = 3.2e-19 * 1e-4  # cm^2/W -> m^2/W
+    assert N2_AIR == pytest.approx(n2, rel=1e-15)
+    assert N2_AIR_SPREAD == 2.0  # REFERENCES.md: "uncertain by a factor of about 2"
+    # Common practice, no source (REFERENCES.md): clamped intensity ~5e13 W/cm^2 at 800 nm.
+    assert CLAMPED_INTENSITY == pytest.approx(5e13 * 1e4, rel=1e-15)
+    assert_allclose(critical_power(LAMBDA, n2), 3.77 * LAMBDA**2 / (8 * np.pi * n2), rtol=1e-14)
+    assert_allclose(critical_power(LAMBDA, n2), 3.0e9, rtol=1e-3)
+    # The factor-2 spread of n2 is a factor-2 spread of P_cr (inverse proportion).
+    assert_allclose(critical_power(LAMBDA, n2 / 2) / critical_power(LAMBDA, n2), 2.0, rtol=1e-14)
+
+
+def test_collapse_distance_reference_check_and_convention():
+    # REFERENCES.md check (computed): w0 = 5 mm, P/P_cr = 10 -> 15.6 m; with f = 2 m -> 1.77 m.
+    p_cr = critical_power()
+    z_ref = marburger_zc(10.0, 5e-3)
+    assert round(z_ref, 1) == 15.6
+    assert round(1 / (1 / z_ref + 1 / 2.0), 2) == 1.77
+    assert_allclose(collapse_distance(10 * p_cr, 5e-3), z_ref, rtol=1e-12)
+    assert_allclose(collapse_distance(10 * p_cr, 5e-3, focal_length=2.0),
+                    1 / (1 / z_ref + 1 / 2.0), rtol=1e-12)
+    # Convention: beam_radius is the 1/e^2 intensity radius w0. The same formula fed with
+    # the beam's 1/e intensity radius (w0 / sqrt 2) gives 7.8 m, not the reference value.
+    assert round(marburger_zc(10.0, 5e-3 / np.sqrt(2)), 1) == 7.8
+
+
+def test_collapse_threshold():
+    # Marburger's bracket [(P/P_cr)^(1/2) - 0.852]^2 - 0.0219 vanishes at the threshold.
+    r = MARBURGER_MIN_POWER_RATIO
+    assert_allclose((np.sqrt(r) - 0.852) ** 2 - 0.0219, 0.0, atol=1e-15)
+    assert 0.9999 < r < 1.0
+    p_cr = critical_power()
+    with pytest.raises(ValueError, match=r"power / critical_power = 0\.9 .*P/P_cr > 0\.99997"):
+        collapse_distance(0.9 * p_cr, 5e-3)
+    with pytest.raises(ValueError, match="P/P_cr >"):
+        collapse_distance([2 * p_cr, 0.5 * p_cr], 5e-3)
+    assert np.isfinite(collapse_distance(1.0001 * p_cr, 5e-3))
+    with pytest.raises(ValueError, match="beam_radius"):
+        collapse_distance(2 * p_cr, -1.0)
+    with pytest.raises(ValueError, match="focal_length"):
+        collapse_distance(2 * p_cr, 5e-3, focal_length=-1.0)
+
+
+@given(st.floats(1.2, 200.0), st.floats(1e-3, 2e-2), st.floats(0.1, 20.0))
+def test_lens_formula(ratio, w0, f):
+    # Marburger's lens rule 1/z_f = 1/z_c + 1/f, so z_f < min(z_c, f).
+    p = ratio * critical_power()
+    z_c = collapse_distance(p, w0)
+    z_f = collapse_distance(p, w0, focal_length=f)
+    assert_allclose(1 / z_f, 1 / z_c + 1 / f, rtol=1e-12)
+    assert z_f < min(z_c, f)
+
+
+def test_peak_power_integrates_to_energy():
+    # Definition: E = int P exp(-t^2/tau^2) dt with FWHM = 2 tau sqrt(ln 2).
+    energy, fwhm = 2.5e-3, 70e-15
+    p = float(peak_power(energy, fwhm))
+    tau = fwhm / (2 * np.sqrt(np.log(2)))
+    integral = quad(lambda t: p * np.exp(-(t / tau) ** 2), -10 * tau, 10 * tau)[0]
+    assert_allclose(integral, energy, rtol=1e-10)
+
+
+def test_ponderomotive_energy_and_keldysh():
+    # REFERENCES.md (Chen): U_p = 9.33e-14 I[W/cm^2] lambda[um]^2 eV -> 2.99 eV at 5e13
+    # W/cm^2, 0.8 um (three-digit rule, hence rtol 1e-3).
+    up = ponderomotive_energy(5e17, 800e-9) / electron_volt
+    assert_allclose(up, 9.33e-14 * 5e13 * 0.8**2, rtol=1e-3)
+    assert round(float(up), 2) == 2.99
+    # Keldysh (Sov. Phys. JETP 20, 1307 (1965)): gamma = sqrt(U_i / (2 U_p)); O2 U_i =
+    # 12.07 eV (NIST, 12.0697 eV).
+    assert_allclose(keldysh_parameter(5e17), np.sqrt(12.07 / (2 * 9.33e-14 * 5e13 * 0.64)),
+                    rtol=1e-3)
+
+
+def test_electron_density_matches_rate_equation():
+    # dn/dt = sigma I(t)^8 (n0 - n), I(t) = I0 exp(-t^2/tau^2), solved numerically; sigma_8
+    # of O2 at 800 nm = 3.3e-130 W^-8 m^16 s^-1 (Sharma et al., Sci. Rep. 8, 2874 (2018)).
+    sigma, n_o2 = 3.3e-130, 0.2095 * 101325 / (k_boltzmann * 288.15)
+    for i0, fwhm in ((CLAMPED_INTENSITY, 50e-15), (1.4e18, 80e-15), (2e17, 30e-15)):
+        tau = fwhm / (2 * np.sqrt(np.log(2)))
+        sol = solve_ivp(lambda t, x: sigma * (i0 * np.exp(-(t / tau) ** 2)) ** 8 * (1 - x),
+                        (-5 * tau, 5 * tau), [0.0], rtol=1e-11, atol=1e-16,
+                        max_step=tau / 20)  # x = n / n_O2
+        assert_allclose(electron_density(i0, fwhm), n_o2 * sol.y[0, -1], rtol=1e-7)
+    # The far-below-saturation limit is the plain time integral of sigma I^8.
+    tau = 50e-15 / (2 * np.sqrt(np.log(2)))
+    dose = quad(lambda t: sigma * (1e17 * np.exp(-(t / tau) ** 2)) ** 8, -5 * tau, 5 * tau)[0]
+    assert_allclose(electron_density(1e17, 50e-15), n_o2 * dose, rtol=1e-6)
+
+
+def test_plasma_from_laser_focused():
+    # Each step recomputed here: Marburger (lens rule), Self (1983) focus, energy budget.
+    energy, fwhm, w0, f = 1e-3, 50e-15, 5e-3, 1.0
+    fil, plasma, est = plasma_from_laser(energy, fwhm, w0, f)
+    tau = fwhm / (2 * np.sqrt(np.log(2)))
+    p = energy / (tau * np.sqrt(np.pi))
+    p_cr = 3.77 * LAMBDA**2 / (8 * np.pi * N2_AIR)
+    z_c = marburger_zc(p / p_cr, w0)
+    z_f = 1 / (1 / z_c + 1 / f)
+    # Complex beam parameter (Siegman, Lasers, ch. 20): q = i z_R at the lens, then
+    # 1/q' = 1/q - 1/f; the waist lies where Re(q' + d) = 0.
+    z_r = np.pi * w0**2 / LAMBDA
+    q1 = 1 / (1 / (1j * z_r) - 1 / f)
+    focus, z_rf = -q1.real, q1.imag
+    n_e = float(electron_density(CLAMPED_INTENSITY, fwhm))
+    loss = n_e * np.pi * (50e-6) ** 2 * 8 * hbar * 2 * np.pi * c / LAMBDA
+    budget = (energy - p_cr * tau * np.sqrt(np.pi)) / loss
+    end = min(max(focus, z_f) + z_rf, z_f + budget)
+    assert_allclose([est.peak_power, est.critical_power, est.collapse_distance, est.onset,
+                     est.end, est.budget_length, est.loss_per_metre],
+                    [p, p_cr, z_c, z_f, end, budget, loss], rtol=1e-10)
+    assert est.limited_by == "focal region" and est.notes == ()
+    assert isinstance(fil, Filament) and isinstance(plasma, Plasma)
+    assert_allclose(fil.start, (0.0, 0.0, z_f), rtol=1e-12)
+    assert_allclose(fil.length, end - z_f, rtol=1e-10)
+    assert_allclose(est.length, end - z_f, rtol=1e-10)
+    assert (plasma.electron_density, plasma.pulse_duration, plasma.peak_intensity) == (
+        est.electron_density, fwhm, CLAMPED_INTENSITY)
+    assert_allclose(est.ionized_fraction, n_e / (0.2095 * 101325 / (k_boltzmann * 288.15)),
+                    rtol=1e-12)
+
+
+def test_plasma_from_laser_collimated_and_notes():
+    # Without a lens: onset at z_c; the column ends after one input Rayleigh range or when
+    # the energy budget runs out, whichever is first.
+    fil, _, est = plasma_from_laser(1e-3, 50e-15, 5e-3)
+    assert_allclose(est.onset, est.collapse_distance, rtol=1e-12)
+    z_r = np.pi * (5e-3) ** 2 / LAMBDA
+    assert_allclose(est.length, min(z_r, est.budget_length), rtol=1e-10)
+    assert est.limited_by == ("energy budget" if est.budget_length < z_r else
+                              "input Rayleigh range")
+    _, _, big = plasma_from_laser(5e-3, 50e-15, 5e-3, 1.0)
+    assert any("several filaments" in n for n in big.notes)
+    _, _, tight = plasma_from_laser(1e-3, 50e-15, 5e-3, 0.2)
+    assert any("tight focusing" in n for n in tight.notes)
+    with pytest.raises(ValueError, match="P/P_cr"):
+        plasma_from_laser(1e-5, 50e-15, 5e-3, 1.0)
+
+
+def test_focused_beam_against_q_parameter():
+    # Siegman, Lasers, ch. 20: complex beam parameter through a thin lens.
+    for w0, f in ((5e-3, 1.0), (2e-3, 30.0), (1e-3, 3.0)):
+        z_r = np.pi * w0**2 / LAMBDA
+        q1 = 1 / (1 / (1j * z_r) - 1 / f)
+        waist, position, z_rf = focused_beam(w0, f)
+        assert_allclose(position, -q1.real, rtol=1e-12)
+        assert_allclose(z_rf, q1.imag, rtol=1e-12)
+        assert_allclose(waist, np.sqrt(LAMBDA * q1.imag / np.pi), rtol=1e-12)
+
+
+def test_focusing_chart():
+    medium = Medium.air()
+    f = np.array([0.5, 1.0, 2.0])
+    energy = np.array([1e-5, 0.5e-3, 2e-3])
+    chart = focusing_chart(f, energy, 0.3e12, medium=medium)
+    assert chart.cone_angle.shape == chart.length.shape == (3, 3)
+    assert np.all(np.isnan(chart.cone_angle[:, 0]))  # 10 uJ is below P_cr
+    for i, fi in enumerate(f):
+        for j in (1, 2):
+            _, _, est = plasma_from_laser(energy[j], 50e-15, 5e-3, fi)
+            assert_allclose(chart.length[i, j], est.length, rtol=1e-12)
+            assert_allclose(chart.onset[i, j], est.onset, rtol=1e-12)
+            assert_allclose(chart.cone_angle[i, j], cone_angle(est.length, 0.3e12, medium),
+                            rtol=1e-12)
+    assert np.all(np.diff(chart.length[:, 1:], axis=0) > 0)  # longer focus, longer column
+    band = np.linspace(0.2e12, 0.4e12, 5)
+    chart_b = focusing_chart(f[:1], energy[1:2], band, medium=medium)
+    assert_allclose(chart_b.cone_angle[0, 0],
+                    band_cone_angle(chart_b.length[0, 0], band, None, medium), rtol=1e-12)
+
+
+def test_focusing_for_cone_gives_the_cone():
+    medium = Medium.air()
+    target = np.radians(6.0)
+    energy = np.array([0.5e-3, 1e-3, 2e-3])
+    focal, length = focusing_for_cone(target, energy, 0.3e12, medium=medium)
+    for e_j, f_j in zip(energy, focal):
+        _, _, est = plasma_from_laser(e_j, 50e-15, 5e-3, f_j)
+        assert_allclose(est.length, length, rtol=1e-9)
+        assert_allclose(cone_angle(est.length, 0.3e12, medium), target, rtol=1e-8)
+    assert np.all(np.diff(focal) < 0)  # more energy: the collapse moves upstream
+    band = np.linspace(0.2e12, 0.4e12, 5)
+    focal_b, length_b = focusing_for_cone(target, energy[:1], band, medium=medium)
+    assert_allclose(band_cone_angle(length_b, band, None, medium), target, rtol=1e-7)
+    none, _ = focusing_for_cone(target, [1e-5], 0.3e12, medium=medium)
+    assert np.isnan(none[0])  # below P_cr: no focal length gives a column
