@@ -108,6 +108,37 @@ def build_parser() -> argparse.ArgumentParser:
     _common(p)
     p.set_defaults(func=cmd_budget)
 
+    p = sub.add_parser("steer", help="delays that steer a layout toward a target, with the lobe "
+                                     "report and maps",
+                       epilog="examples:\n  thzarray steer designs/grid_steering.toml\n"
+                              "  thzarray steer designs/grid_steering.toml --toward '9 deg,0 deg' "
+                              "--write steered.toml\n\n" + SAFETY_SHORT,
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("design", type=Path)
+    p.add_argument("--toward", help="target direction THETA,PHI, e.g. '9 deg,0 deg' "
+                                    "(default: the design's [steering].toward)")
+    p.add_argument("--write", type=Path, help="also write a new design file with these delays")
+    _common(p)
+    p.set_defaults(func=cmd_steer)
+
+    p = sub.add_parser("compare", help="single, incoherent, phased and ideal N^2 energies",
+                       epilog="example:\n  thzarray compare designs/grid_steering.toml --json\n\n"
+                              + SAFETY_SHORT, formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("design", type=Path)
+    p.add_argument("--toward", help="target direction THETA,PHI (default: the design's)")
+    p.add_argument("--shots", type=int, default=400, help="Monte Carlo draws (default 400)")
+    p.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
+    _common(p)
+    p.set_defaults(func=cmd_compare)
+
+    p = sub.add_parser("tolerance", help="Monte Carlo of timing jitter and placement errors",
+                       epilog="example:\n  thzarray tolerance designs/grid_steering.toml\n\n"
+                              + SAFETY_SHORT, formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("design", type=Path)
+    p.add_argument("--toward", help="target direction THETA,PHI (default: the design's)")
+    _common(p)
+    p.set_defaults(func=cmd_tolerance)
+
     p = sub.add_parser("demo", help="run every design in designs/ and write the gallery",
                        epilog="example:\n  thzarray demo --out gallery --force\n\n" + SAFETY_SHORT,
                        formatter_class=argparse.RawDescriptionHelpFormatter)
@@ -414,6 +445,139 @@ class _spinner:
         if self.on:
             print(" done", file=sys.stderr)
         return False
+
+
+def _toward(args):
+    if getattr(args, "toward", None) is None:
+        return None
+    parts = args.toward.split(",")
+    if len(parts) != 2:
+        raise UsageError(f"--toward: {args.toward!r} is not allowed; allowed: THETA,PHI, e.g. "
+                         "'9 deg,0 deg'")
+    return tuple(_quantity("toward", p.strip(), "angle") for p in parts)
+
+
+def _steer_outputs(design, res, args):
+    from . import jobs
+    from .plots import interactive, static
+
+    slug = _slug(design.name)
+    freq = jobs.steering_band(design)
+    theta_max = min(np.pi, 2.0 * max(res.target.theta, np.radians(1.0)))
+    scales = np.linspace(0.0, 1.0, 5)
+    maps = []
+    for a in scales:
+        x, y, m = jobs.band_sky(res.sources if a == 1 else
+                                tuple(f.replace(delay=a * f.delay) for f in res.sources),
+                                freq, design.medium, design.plasma, theta_max, 101)
+        maps.append(m)
+    xd, yd = np.degrees(x), np.degrees(y)
+    unit = "J/sr" if design.plasma is not None else "J/sr per (A s)^2"
+    title = f"{design.name}: steered lobe (target {np.degrees(res.target.theta):.3g} deg)"
+    delays_csv = _csv(["x_m", "y_m", "z_m", "delay_s"],
+                      [[f.start[0] for f in res.sources], [f.start[1] for f in res.sources],
+                       [f.start[2] for f in res.sources], res.delays])
+    return _write_all(
+        args.out, args.force, design.formats,
+        figures=[(f"{slug}_steered",
+                  lambda: static.sky_map(xd, yd, maps[-1], title, label=f"band energy ({unit})"),
+                  lambda: interactive.sky_slider(xd, yd, maps, [f"{a:.2f}" for a in scales],
+                                                 title, f"band energy ({unit})",
+                                                 "fraction of the designed delays"))],
+        tables=[(f"{slug}_delays", delays_csv)])
+
+
+def cmd_steer(args):
+    from . import jobs
+    from .design import load_design
+    from .output import check_writable, write_text
+
+    design = load_design(args.design)
+    if args.write is not None:
+        check_writable(args.write, args.force)
+    with _spinner(args, "steering"):
+        res = jobs.steer(design, _toward(args))
+    files = _steer_outputs(design, res, args)
+    if args.write is not None:
+        files.append(str(write_text(args.write, jobs.design_with_delays_toml(design, res.sources),
+                                    args.force)))
+    summary = dict(res.summary(), design=design.name, files=files)
+    d_ps = ", ".join(f"{1e12 * d:.4g}" for d in res.delays[:8])
+    more = " ..." if len(res.delays) > 8 else ""
+    text = [f"{design.name}: {res.method} delays (ps): {d_ps}{more}",
+            f"main lobe at theta {summary['main_lobe_deg'][0]:.3g} deg, phi "
+            f"{summary['main_lobe_deg'][1]:.3g} deg ({summary['pointing_error_deg']:.3g} deg from "
+            f"the target); peak side lobe {summary['peak_sidelobe_db']:.3g} dB; element level at "
+            f"the target {summary['cone_level_db']:.3g} dB"]
+    text += [f"note: {n}" for n in summary["notes"]]
+    text.append(f"wrote {len(files)} files to {args.out}")
+    _emit(args, summary, "\n".join(text))
+    return 0
+
+
+def cmd_compare(args):
+    from . import jobs
+    from .design import load_design
+    from .plots import interactive, static
+
+    design = load_design(args.design)
+    if args.shots < 2:
+        raise UsageError(f"--shots: {args.shots} is not allowed; allowed: 2 or more")
+    g, target = jobs.compare(design, _toward(args), shots=args.shots, seed=args.seed)
+    labels = ["single", "incoherent", "phased", f"ideal N^2 (N={g.count})"]
+    values = [1.0, g.incoherent_over_single, g.phased_over_single, g.ideal / g.single]
+    title = f"{design.name}: gain over one filament"
+    files = _write_all(args.out, args.force, design.formats,
+                       figures=[(f"{_slug(design.name)}_gains",
+                                 lambda: static.bar_chart(labels, values, "energy / single", title),
+                                 lambda: interactive.bar_chart(labels, values, "energy / single",
+                                                               title))],
+                       tables=[(f"{_slug(design.name)}_gains",
+                                "case,energy,over_single\n" + "".join(
+                                    f"{lab},{v * g.single:.9g},{v:.9g}\n"
+                                    for lab, v in zip(labels, values)))])
+    summary = {"design": design.name, "count": g.count, "single": g.single,
+               "incoherent": g.incoherent, "incoherent_mc": g.incoherent_mc,
+               "incoherent_mc_error": g.incoherent_mc_error, "phased": g.phased, "ideal": g.ideal,
+               "coherent_limit": g.coherent_limit, "unit": g.unit,
+               "phased_over_single": g.phased_over_single,
+               "incoherent_over_single": g.incoherent_over_single,
+               "phased_over_ideal": g.phased_over_ideal,
+               "target_theta_deg": float(np.degrees(target.theta)), "files": files}
+    _emit(args, summary, f"{design.name}: single 1, incoherent {g.incoherent_over_single:.3g} "
+                         f"(Monte Carlo {g.incoherent_mc / g.single:.3g} +- "
+                         f"{g.incoherent_mc_error / g.single:.2g}), phased "
+                         f"{g.phased_over_single:.4g}, ideal N^2 {g.ideal / g.single:.4g}")
+    return 0
+
+
+def cmd_tolerance(args):
+    from . import jobs
+    from .design import load_design
+    from .plots import interactive, static
+
+    design = load_design(args.design)
+    with _spinner(args, "Monte Carlo"):
+        t, res = jobs.tolerance_study(design, _toward(args))
+    markers = [("mean", t.mean), ("exact mean", t.expected),
+               (f"{t.percentile:g}th percentile", t.percentile_value)]
+    title = f"{design.name}: delivered gain with errors"
+    files = _write_all(args.out, args.force, design.formats,
+                       figures=[(f"{_slug(design.name)}_tolerance",
+                                 lambda: static.histogram(t.samples, "gain / error-free gain",
+                                                          title, markers),
+                                 lambda: interactive.histogram(t.samples, "gain / error-free gain",
+                                                               title, markers))],
+                       tables=[(f"{_slug(design.name)}_tolerance",
+                                _csv(["build", "gain"], [np.arange(t.samples.size), t.samples]))])
+    summary = {"design": design.name, "mean": t.mean, "std": t.std,
+               "standard_error": t.standard_error, "percentile": t.percentile,
+               "percentile_value": t.percentile_value, "expected_mean": t.expected,
+               "shots": int(t.samples.size), "files": files}
+    _emit(args, summary, f"{design.name}: mean gain {t.mean:.3f} +- {t.standard_error:.2g} "
+                         f"(exact {t.expected:.3f}), spread {t.std:.3f}, {t.percentile:g}th "
+                         f"percentile {t.percentile_value:.3f}")
+    return 0
 
 
 def cmd_demo(args):

@@ -86,6 +86,45 @@ SCHEMA: dict[str, dict[str, Spec]] = {
         "profile_z": _Q("list:length", None, doc="sample positions from the start"),
         "profile_w": _Q("list:number", None, doc="longitudinal weights at profile_z"),
     },
+    "layout": {
+        "kind": _Q("choice", required=True,
+                   choices=("line", "grid", "hexagonal", "ring", "random", "csv"),
+                   doc="array builder"),
+        "length": _Q("length", None, low=0.0, low_open=True, high=1e3, doc="column length"),
+        "count": _Q("int", None, low=1, high=4096, doc="line, ring, random: columns"),
+        "shape": _Q("list:int", None, doc="grid: [nx, ny]"),
+        "rings": _Q("int", None, low=0, high=30, doc="hexagonal: rings around the centre"),
+        "spacing": _Q("length", None, low=0.0, low_open=True, high=10.0, doc="pitch"),
+        "radius": _Q("length", None, low=0.0, low_open=True, high=10.0, doc="ring, random"),
+        "min_separation": _Q("length", 0.0, low=0.0, high=10.0, doc="random"),
+        "seed": _Q("int", 0, low=0, high=2**32 - 1, doc="random: generator seed"),
+        "center_column": _Q("bool", False, doc="ring: add a column at the centre"),
+        "center": _Q("vector:length", (0.0, 0.0, 0.0)),
+        "axis": _Q("vector:number", (0.0, 0.0, 1.0)),
+        "csv": _Q("str", None, doc="csv: layout table (path relative to the design)"),
+    },
+    "steering": {
+        "toward": _Q("list:angle", None, doc="[theta, phi] target direction"),
+        "method": _Q("choice", "true-time", choices=("true-time", "phase-only", "optimise"),
+                     doc="true-time delays, delays folded into one period, or optimised"),
+        "design_freq": _Q("frequency", None, low=0.0, low_open=True, high=1e14,
+                          doc="phase-only: design frequency"),
+        "max_delay": _Q("time", None, low=0.0, low_open=True, high=1e-6,
+                        doc="optimise: largest realisable delay"),
+        "receiver_radius": _Q("length", None, low=0.0, low_open=True, high=1e3,
+                              doc="target aperture radius (with receiver_distance)"),
+        "receiver_distance": _Q("length", None, low=0.0, low_open=True, high=1e6),
+        "band": _Q("list:frequency", None, doc="[low, high] band for gains and optimisation"),
+        "band_points": _Q("int", 9, low=2, high=1024),
+    },
+    "tolerance": {
+        "timing_jitter": _Q("time", 0.0, low=0.0, high=1e-9, doc="rms timing error"),
+        "transverse_error": _Q("length", 0.0, low=0.0, high=1.0, doc="rms placement error"),
+        "longitudinal_error": _Q("length", 0.0, low=0.0, high=10.0, doc="rms onset error"),
+        "shots": _Q("int", 1000, low=2, high=10**6, doc="Monte Carlo builds"),
+        "percentile": _Q("number", 10.0, low=0.0, high=100.0),
+        "seed": _Q("int", 0, low=0, high=2**32 - 1),
+    },
     "observe": {
         "freq": _Q("grid:frequency", required=True, low=0.0, low_open=True, high=1e14,
                    doc="a list, or {start, stop, points}"),
@@ -167,6 +206,8 @@ class Design:
     band: np.ndarray | None = None
     plane: dict | None = None
     budget: dict | None = None
+    steering: dict | None = None
+    tolerance: dict | None = None
     path: Path | None = None
     raw: dict = field(default_factory=dict, repr=False)
 
@@ -231,6 +272,18 @@ class _Checker:
                 self.fail(path, value, f"a whole number from {spec.low:g} to {spec.high:g}")
                 return None
             return value
+        if kind == "bool":
+            if not isinstance(value, bool):
+                self.fail(path, value, "true or false")
+                return None
+            return value
+        if kind == "list:int":
+            if (not isinstance(value, list) or not value
+                    or not all(isinstance(v, int) and not isinstance(v, bool) and 1 <= v <= 4096
+                               for v in value)):
+                self.fail(path, value, "a list of whole numbers from 1 to 4096")
+                return None
+            return tuple(value)
         if kind == "choice":
             if value not in spec.choices:
                 self.fail(path, value, "one of " + ", ".join(spec.choices))
@@ -361,6 +414,72 @@ def _filament(checker, path, f):
                   delay=f["delay"], weight=f["weight"], profile=profile)
 
 
+_LAYOUT_NEEDS = {"line": ("count", "spacing", "length"), "grid": ("shape", "spacing", "length"),
+                 "hexagonal": ("rings", "spacing", "length"), "ring": ("count", "radius", "length"),
+                 "random": ("count", "radius", "length"), "csv": ("csv",)}
+
+
+def _layout(checker, lay, path):
+    """Filaments from a [layout] builder (None on problems, already reported)."""
+    from . import layouts
+
+    if lay is None or lay.get("kind") is None:
+        return None
+    kind = lay["kind"]
+    missing = [k for k in _LAYOUT_NEEDS[kind] if lay.get(k) is None]
+    for k in missing:
+        checker.problems.append(f"layout.{k}: missing; allowed: layout kind {kind!r} needs "
+                                + ", ".join(_LAYOUT_NEEDS[kind]))
+    if missing or any(lay[k] is None for k in ("center", "axis")):
+        return None
+    common = dict(center=lay["center"], axis=lay["axis"])
+    if kind == "csv":
+        csv = Path(lay["csv"])
+        if not csv.is_absolute() and path is not None:
+            csv = Path(path).parent / csv
+        return _build(checker, "layout.csv", layouts.read_csv, csv)
+    if kind == "grid" and len(lay["shape"]) != 2:
+        checker.fail("layout.shape", list(lay["shape"]), "[nx, ny]")
+        return None
+    if kind == "grid" and lay["shape"][0] * lay["shape"][1] > _MAX_FILAMENTS:
+        checker.fail("layout.shape", list(lay["shape"]), f"at most {_MAX_FILAMENTS} columns")
+        return None
+    calls = {
+        "line": lambda: layouts.line(lay["count"], lay["spacing"], lay["length"], **common),
+        "grid": lambda: layouts.grid(tuple(lay["shape"]), lay["spacing"], lay["length"], **common),
+        "hexagonal": lambda: layouts.hexagonal(lay["rings"], lay["spacing"], lay["length"],
+                                               **common),
+        "ring": lambda: layouts.ring(lay["count"], lay["radius"], lay["length"],
+                                     center_column=lay["center_column"], **common),
+        "random": lambda: layouts.random_aperture(lay["count"], lay["radius"],
+                                                  lay["min_separation"], lay["length"],
+                                                  seed=lay["seed"], **common),
+    }
+    return _build(checker, "layout", calls[kind])
+
+
+def _check_steering(checker, st, raw):
+    toward = st.get("toward")
+    if toward is not None:
+        if len(toward) != 2:
+            checker.fail("steering.toward", raw.get("toward"), "[theta, phi], e.g. "
+                         "['5 deg', '0 deg']")
+        elif not 0 <= toward[0] <= math.pi:
+            checker.fail("steering.toward[0]", raw["toward"][0], "a polar angle from 0 to 180 deg")
+    if (st.get("receiver_radius") is None) != (st.get("receiver_distance") is None):
+        checker.problems.append("steering: receiver_radius and receiver_distance go together; "
+                                "allowed: both or neither")
+    elif st.get("receiver_radius") is not None and st["receiver_radius"] >= st["receiver_distance"]:
+        checker.fail("steering.receiver_radius", raw.get("receiver_radius"),
+                     "less than receiver_distance")
+    if st.get("method") == "phase-only" and st.get("design_freq") is None:
+        checker.problems.append("steering.design_freq: missing; allowed: method 'phase-only' "
+                                "needs a design frequency, e.g. '0.3 THz'")
+    band = st.get("band")
+    if band is not None and (band.size != 2 or band[1] <= band[0]):
+        checker.fail("steering.band", raw.get("band"), "[low, high] with low < high")
+
+
 def _receiver(checker, data, path):
     """The receiver object and the frequencies sampling its band (None, None if absent)."""
     if "receiver" not in data:
@@ -409,6 +528,9 @@ def parse_design(data: dict, path: Path | None = None) -> Design:
     if not isinstance(data, dict):
         raise DesignError(["design: not a TOML table"])
     known = set(SCHEMA) | {"filaments"}
+    for key in ("layout", "steering", "tolerance", "receiver", "plane"):
+        if key in data and not isinstance(data[key], dict):
+            checker.fail(key, data[key], f"a [{key}] table")
     for key in data:
         if key not in known:
             checker.problems.append(f"{key}: unknown section{_suggest(key, sorted(known))}; "
@@ -425,9 +547,12 @@ def parse_design(data: dict, path: Path | None = None) -> Design:
             lw = 800e-9  # already reported under medium.laser_wavelength
         plasma = _build(checker, "plasma", Plasma, laser_wavelength=lw, **plasma_t)
     sources = []
-    if "filament" in data and "filaments" in data:
-        checker.problems.append("filaments: both [filament] and [[filaments]] given; allowed: "
-                                "one of them")
+    given = [k for k in ("filament", "filaments", "layout") if k in data]
+    if len(given) > 1:
+        checker.problems.append(f"{given[1]}: both [{given[0]}] and [{given[1]}] given; "
+                                "allowed: one of [filament], [[filaments]], [layout]")
+    elif "layout" in data and isinstance(data["layout"], dict):
+        sources += list(_layout(checker, _section(checker, data, "layout"), path) or [None])
     elif "filament" in data:
         sources.append(_filament(checker, "filament", _section(checker, data, "filament")))
     elif "filaments" in data:
@@ -466,6 +591,14 @@ def parse_design(data: dict, path: Path | None = None) -> Design:
             checker.problems.append(f"outputs.formats: {fmt!r} is not allowed{_suggest(fmt, _OUTPUT_FORMATS)}; "
                                     f"allowed: {', '.join(_OUTPUT_FORMATS)}")
     receiver, band = _receiver(checker, data, path)
+    steering = None
+    if isinstance(data.get("steering"), dict):
+        steering = _section(checker, data, "steering")
+        if steering is not None:
+            _check_steering(checker, steering, data["steering"])
+    tol = None
+    if isinstance(data.get("tolerance"), dict):
+        tol = _section(checker, data, "tolerance")
     plane = _section(checker, data, "plane") if "plane" in data else None
     budget = _section(checker, {"budget": data.get("budget", {})}, "budget")
     if checker.problems:
@@ -478,7 +611,8 @@ def parse_design(data: dict, path: Path | None = None) -> Design:
                   cone_target=cone.get("target_angle"),
                   cone_band=None if band is None else (float(band[0]), float(band[1])),
                   cone_lengths=lengths, formats=tuple(formats), receiver=receiver, band=band,
-                  plane=plane, budget=budget, path=path, raw=data)
+                  plane=plane, budget=budget, steering=steering, tolerance=tol, path=path,
+                  raw=data)
 
 
 def load_design(path) -> Design:

@@ -246,3 +246,177 @@ def budget(design: Design):
                         np.asarray(b["relative_humidity"], float), theta, b["phi"],
                         temperature_c=t, pressure_hpa=p, plasma=design.plasma,
                         laser_wavelength=lw)
+
+
+# --- arrays: steering, gains, tolerances ----------------------------------------------------
+
+def steering_band(design: Design) -> np.ndarray:
+    """Band samples (Hz) for gains and steering: [steering].band, else the receiver's band,
+    else [cone].band, else the observation frequencies."""
+    st = design.steering or {}
+    if st.get("band") is not None:
+        lo, hi = st["band"]
+        return np.linspace(lo, hi, st.get("band_points") or 9)
+    if design.band is not None:
+        return design.band
+    if design.cone_band is not None:
+        return np.linspace(design.cone_band[0], design.cone_band[1], 9)
+    f = np.asarray(design.grid.freq, float)
+    return f if f.size >= 2 else np.array([0.999 * f[0], f[0], 1.001 * f[0]])
+
+
+def steering_target(design: Design, toward=None):
+    """The target (Direction, or Receiver when an aperture is given) of a design.
+
+    ``toward`` (theta, phi) in rad overrides [steering].toward; without either the target is
+    the band cone of the first column at phi = 0.
+    """
+    from .cone import band_cone_angle
+    from .gain import Direction, Receiver
+
+    st = design.steering or {}
+    if toward is None and st.get("toward") is not None:
+        toward = tuple(float(v) for v in st["toward"])
+    if toward is None:
+        freq = steering_band(design)
+        toward = (band_cone_angle(design.sources[0].length, freq, medium=design.medium), 0.0)
+    theta, phi = toward
+    if not 0.0 <= theta <= np.pi:
+        raise ValueError(f"toward theta = {np.degrees(theta):.6g} deg is not allowed; allowed: "
+                         "0 to 180 deg")
+    if st.get("receiver_radius") is not None:
+        return Receiver(theta, phi, radius=st["receiver_radius"],
+                        distance=st["receiver_distance"])
+    return Direction(theta, phi)
+
+
+@dataclass(frozen=True, eq=False)
+class SteerResult:
+    """Delays for a design and what they deliver (SI)."""
+
+    method: str
+    target: object
+    delays: np.ndarray
+    sources: tuple
+    report: object
+    design: object = None  # SteeringDesign when optimised
+
+    def summary(self) -> dict:
+        r = self.report
+        out = {"method": self.method, "delays_s": self.delays.tolist(),
+               "target_theta_deg": float(np.degrees(self.target.theta)),
+               "target_phi_deg": float(np.degrees(self.target.phi)),
+               "main_lobe_deg": [float(np.degrees(v)) for v in r.main_lobe],
+               "pointing_error_deg": float(np.degrees(r.pointing_error)),
+               "beam_width_deg": [float(np.degrees(v)) for v in r.beam_width],
+               "peak_sidelobe_db": float(r.peak_sidelobe_db),
+               "grating_lobes": [{"theta_deg": float(np.degrees(g.theta)),
+                                  "phi_deg": float(np.degrees(g.phi)),
+                                  "level_db": float(g.pattern_db)} for g in r.grating_lobes],
+               "cone_level_db": float(r.cone_level_db), "notes": list(r.notes)}
+        if self.design is not None:
+            out["energy_over_plain"] = float(self.design.energy / self.design.plain_energy)
+        return out
+
+
+def steer(design: Design, toward=None) -> SteerResult:
+    """Delays that steer the design's layout toward its target, and their report."""
+    import warnings
+
+    from .layouts import with_delays
+    from .steering import (ConeNullWarning, design_steering, phase_only_delays,
+                           steering_delays, steering_report)
+
+    target = steering_target(design, toward)
+    freq = steering_band(design)
+    st = design.steering or {}
+    method = st.get("method") or "true-time"
+    with warnings.catch_warnings():
+        # the report's notes carry the same statement; the CLI prints them
+        warnings.simplefilter("ignore", ConeNullWarning)
+        if method == "optimise":
+            d = design_steering(design.sources, target, freq, max_delay=st.get("max_delay"),
+                                medium=design.medium, plasma=design.plasma)
+            return SteerResult(method, target, d.delays, with_delays(design.sources, d.delays),
+                               d.report, d)
+        if method == "phase-only":
+            delays = phase_only_delays(design.sources, target.theta, target.phi,
+                                       st["design_freq"], design.medium)
+        else:
+            delays = steering_delays(design.sources, target.theta, target.phi, design.medium)
+        steered = with_delays(design.sources, delays)
+        report = steering_report(steered, target, freq, design.medium, design.plasma)
+    return SteerResult(method, target, np.asarray(delays), steered, report)
+
+
+def compare(design: Design, toward=None, shots: int = 400, seed: int = 0):
+    """Single / incoherent / phased / ideal energies of the steered layout toward its target."""
+    from .gain import array_gain
+
+    res = steer(design, toward) if design.steering is not None or toward is not None else None
+    sources = res.sources if res is not None else design.sources
+    target = res.target if res is not None else steering_target(design, toward)
+    return array_gain(sources, target, steering_band(design), medium=design.medium,
+                      plasma=design.plasma, shots=shots, seed=seed), target
+
+
+def tolerance_study(design: Design, toward=None):
+    """Monte Carlo of the design's [tolerance] errors on its steered layout."""
+    from .tolerance import tolerance
+
+    if design.tolerance is None:
+        raise ValueError(f"design {design.name!r}: this job needs section [tolerance]; "
+                         "allowed: add it (timing_jitter, transverse_error, ...)")
+    t = design.tolerance
+    res = steer(design, toward)
+    out = tolerance(res.sources, res.target, steering_band(design),
+                    timing_jitter=t["timing_jitter"], transverse_error=t["transverse_error"],
+                    longitudinal_error=t["longitudinal_error"], shots=t["shots"],
+                    percentile=t["percentile"], seed=t["seed"], medium=design.medium,
+                    plasma=design.plasma)
+    return out, res
+
+
+def design_with_delays_toml(design: Design, sources) -> str:
+    """A TOML design equal to ``design`` but with explicit [[filaments]] carrying delays."""
+    lines = []
+    for section, table in design.raw.items():
+        if section in ("filament", "filaments", "layout", "steering"):
+            continue
+        lines.append(f"[{section}]")
+        lines += [f"{k} = {_toml_value(v)}" for k, v in table.items()]
+        lines.append("")
+    for f in sources:
+        lines.append("[[filaments]]")
+        lines.append(f"length = {f.length!r}")
+        lines.append(f"start = [{', '.join(repr(float(v)) for v in f.start)}]")
+        lines.append(f"axis = [{', '.join(repr(float(v)) for v in f.axis)}]")
+        lines.append(f"delay = {f.delay!r}")
+        lines.append(f"weight = {f.weight!r}")
+        lines.append("")
+    return "# Written by `thzarray steer` (delays in s, lengths in m).\n" + "\n".join(lines)
+
+
+def _toml_value(v):
+    import json
+
+    if isinstance(v, bool):
+        return "true" if v else "false"
+    if isinstance(v, dict):
+        return "{ " + ", ".join(f"{k} = {_toml_value(x)}" for k, x in v.items()) + " }"
+    if isinstance(v, list):
+        return "[" + ", ".join(_toml_value(x) for x in v) + "]"
+    if isinstance(v, str):
+        return json.dumps(v)
+    return repr(v)
+
+
+def band_sky(sources, freq, medium, plasma, theta_max: float, points: int = 121):
+    """Band-integrated energy (J/sr, trapezoid over ``freq``) on a projected sky grid.
+
+    Returns x, y (rad, (N,)) and the map (N, N).
+    """
+    x, y, th, ph = projected_grid(theta_max, points)
+    ff = far_field(sources, freq[:, None, None], th[None], ph[None], medium, plasma)
+    w = np.gradient(freq) if freq.size > 1 else np.ones(1)
+    return x, y, np.tensordot(w, ff.energy_density, axes=(0, 0))

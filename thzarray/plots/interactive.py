@@ -138,3 +138,38 @@ def plane_maps(x, y, maps, titles, title, label, unit_scale=1e3, unit="mm"):
                       xaxis=dict(title=f"x ({unit})", scaleanchor="y"),
                       yaxis=dict(title=f"y ({unit})"))
     return fig
+
+
+def bar_chart(labels, values, ylabel, title, logy=True):
+    """Bars with hover values."""
+    fig = go.Figure(go.Bar(x=list(labels), y=list(values), text=[f"{v:.3g}" for v in values],
+                           textposition="outside", marker_color="#3b528b"))
+    fig.update_layout(title=title, yaxis=dict(title=ylabel, type="log" if logy else "linear"),
+                      template="plotly_white")
+    return fig
+
+
+def histogram(samples, xlabel, title, markers=()):
+    """Histogram of Monte Carlo samples with labelled vertical markers (label, value)."""
+    fig = go.Figure(go.Histogram(x=samples, nbinsx=40, marker_color="#21918c"))
+    for label, value in markers:
+        fig.add_vline(x=value, line_dash="dash", annotation_text=f"{label} {value:.3g}")
+    fig.update_layout(title=title, xaxis=dict(title=xlabel), yaxis=dict(title="builds"),
+                      template="plotly_white")
+    return fig
+
+
+def sky_slider(x_deg, y_deg, maps, steps, title, label, slider_label):
+    """Projected sky maps (theta radial, phi around) with a slider over ``steps`` labels."""
+    fig = go.Figure()
+    for k, m in enumerate(maps):
+        fig.add_trace(go.Heatmap(x=x_deg, y=y_deg, z=m, colorscale=_SCALE, visible=(k == 0),
+                                 colorbar=dict(title=label), name=steps[k]))
+    sl = [dict(method="update", label=s, args=[{"visible": [i == k for i in range(len(maps))]}])
+          for k, s in enumerate(steps)]
+    fig.update_layout(title=title, template="plotly_white",
+                      sliders=[dict(active=0, steps=sl,
+                                    currentvalue=dict(prefix=f"{slider_label}: "))],
+                      xaxis=dict(title="theta cos(phi) (deg)", scaleanchor="y"),
+                      yaxis=dict(title="theta sin(phi) (deg)"))
+    return fig

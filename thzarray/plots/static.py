@@ -157,3 +157,35 @@ def plane_maps(x, y, maps, titles, title, label, unit_scale=1e3, unit="mm"):
     fig.colorbar(mesh, ax=list(axes), label=label)
     fig.suptitle(title)
     return fig
+
+
+def bar_chart(labels, values, ylabel, title, logy=True):
+    """Bars with their values written on top (e.g. single / incoherent / phased / ideal)."""
+    fig = Figure(figsize=(6.0, 4.0))
+    ax = fig.add_subplot()
+    colours = _colours(len(values))
+    bars = ax.bar(labels, values, color=colours)
+    for b, v in zip(bars, values):
+        ax.annotate(f"{v:.3g}", (b.get_x() + b.get_width() / 2, v), ha="center", va="bottom",
+                    fontsize=8)
+    if logy:
+        ax.set_yscale("log")
+    ax.set_ylabel(ylabel)
+    ax.set_title(title)
+    ax.grid(True, axis="y", alpha=0.3)
+    return fig
+
+
+def histogram(samples, xlabel, title, markers=()):
+    """Histogram of Monte Carlo samples with labelled vertical markers (label, value)."""
+    fig = Figure(figsize=(6.0, 4.0))
+    ax = fig.add_subplot()
+    ax.hist(samples, bins=40, color=_colours(1)[0], alpha=0.85)
+    for (label, value), col in zip(markers, ("0.2", "tab:orange", "tab:red", "tab:green")):
+        ax.axvline(value, color=col, ls="--", lw=1.2, label=f"{label} {value:.3g}")
+    ax.set_xlabel(xlabel)
+    ax.set_ylabel("builds")
+    ax.set_title(title)
+    if markers:
+        ax.legend(fontsize=8)
+    return fig
