@@ -17,6 +17,9 @@ Which module owns what (arrows point down only; see DEVELOPERS.md):
 - ``steering``      true-time and phase-only delays, squint, steering designer and report.
 - ``tolerance``     Monte Carlo of timing jitter and placement errors with the exact mean.
 - ``maps``          sky and (theta, freq) maps of an array, as arrays with their axes.
+- ``laser``         laser settings -> plasma: Marburger critical power and collapse distance,
+                    focused beam, O2 ionization, plasma length and density estimates.
+- ``fitting``       fits of measured angular and delay scans with covariance errors.
 - ``nearfield``     exact finite-distance fields (Jackson eq. 9.18 along each column), E and H.
 - ``_near_kernels`` compiled Filon-Legendre line integrals and their numpy twin; private.
 - ``surfaces``      plane, sphere and line scans; where the far field stops being valid.
@@ -52,10 +55,24 @@ from .steering import (ConeLevel, ConeNullWarning, GratingLobe, SquintReport, St
                        steering_delays, steering_report)
 from .tolerance import ToleranceResult, tolerance
 from .maps import FrequencyMap, SkyMap, frequency_map, sky_map
+from .laser import (FocusingChart, PlasmaEstimate, collapse_distance, critical_power,
+                    focusing_chart, focusing_for_cone, plasma_from_laser)
+from .fitting import FitResult, fit_delay_scan, fit_scan, read_scan_csv
 
 __version__ = "0.1.0"
 
 __all__ = [
+    "FitResult",
+    "FocusingChart",
+    "PlasmaEstimate",
+    "collapse_distance",
+    "critical_power",
+    "fit_delay_scan",
+    "fit_scan",
+    "focusing_chart",
+    "focusing_for_cone",
+    "plasma_from_laser",
+    "read_scan_csv",
     "ArrayGain",
     "ConeLevel",
     "ConeNullWarning",

@@ -139,6 +139,23 @@ def build_parser() -> argparse.ArgumentParser:
     _common(p)
     p.set_defaults(func=cmd_tolerance)
 
+    p = sub.add_parser("fit", help="fit a measured angular scan: effective length, mismatch, "
+                                   "amplitude, background",
+                       epilog="examples:\n  thzarray fit designs/scan_synthetic.csv\n"
+                              "  thzarray fit scan.csv --freq '0.3 THz' --distance '1.5 m' --json\n"
+                              "  thzarray fit scan.csv --fix background=0\n\n"
+                              "CSV: columns angle_deg (or angle_rad), signal, optional sigma; "
+                              "metadata lines '# freq = 0.3 THz', '# distance = 1.5 m'.\n\n"
+                              + SAFETY_SHORT, formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("data", type=Path, help="scan CSV file")
+    p.add_argument("--freq", help="frequency, e.g. '0.3 THz' (default: the file's '# freq')")
+    p.add_argument("--distance", help="detector distance for a finite-distance fit, e.g. "
+                                      "'1.5 m' (default: the file's '# distance', else far field)")
+    p.add_argument("--fix", action="append", default=[], metavar="NAME=VALUE",
+                   help="hold a parameter fixed (SI), e.g. background=0; repeatable")
+    _common(p)
+    p.set_defaults(func=cmd_fit)
+
     p = sub.add_parser("demo", help="run every design in designs/ and write the gallery",
                        epilog="example:\n  thzarray demo --out gallery --force\n\n" + SAFETY_SHORT,
                        formatter_class=argparse.RawDescriptionHelpFormatter)
@@ -173,6 +190,7 @@ def _medium_from_flags(args):
 
 
 def _emit(args, result: dict, text: str):
+    args.summary = result
     if args.json:
         print(json.dumps(result, indent=2, sort_keys=True, default=_jsonable))
     else:
@@ -580,6 +598,68 @@ def cmd_tolerance(args):
     return 0
 
 
+def _jobs_for(design):
+    """The subcommands that apply to a design, in gallery order."""
+    jobs = [cmd_pattern]
+    if design.receiver is not None and design.plane is not None:
+        jobs.append(cmd_map)
+    if design.receiver is not None:
+        jobs.append(cmd_budget)
+    if len(design.sources) > 1 or design.steering is not None:
+        jobs += [cmd_steer, cmd_compare]
+    if design.tolerance is not None:
+        jobs.append(cmd_tolerance)
+    return jobs
+
+
+def cmd_fit(args):
+    from .fitting import fit_command_result
+    from .plots import interactive, static
+    from .units import parse_quantity
+
+    fixed = {}
+    for item in args.fix:
+        name, sep, value = item.partition("=")
+        if not sep or not name.strip():
+            raise UsageError(f"--fix: {item!r} is not allowed; allowed: NAME=VALUE, e.g. "
+                             "background=0")
+        try:
+            fixed[name.strip()] = float(value)
+        except ValueError:
+            raise UsageError(f"--fix: {item!r} has a value that is not a number; allowed: "
+                             "NAME=VALUE in SI units") from None
+    freq = None if args.freq is None else _quantity("freq", args.freq, "frequency")
+    distance = None if args.distance is None else _quantity("distance", args.distance, "length")
+    result = fit_command_result(args.data, freq=freq, distance=distance, fixed=fixed or None,
+                                to_si=parse_quantity)
+    res = result["residuals"]
+    slug = _slug(Path(args.data).stem)
+    title = f"fit of {Path(args.data).name}"
+    result["files"] = _write_all(
+        args.out, args.force, ("png", "html", "csv"),
+        figures=[(f"{slug}_fit",
+                  lambda: static.fit_plot(np.asarray(res["angle_rad"]), res["signal"],
+                                          res["model"], res.get("sigma"), title),
+                  lambda: interactive.fit_plot(np.asarray(res["angle_rad"]), res["signal"],
+                                               res["model"], res.get("sigma"), title))],
+        tables=[(f"{slug}_fit_residuals",
+                 _csv(["angle_rad", "signal", "model", "residual"],
+                      [res["angle_rad"], res["signal"], res["model"], res["residual"]]))])
+    units = result.get("units", {})
+    lines = [f"{Path(args.data).name}: {result['model']} fit, chi2/dof "
+             f"{result['chi2_per_dof']:.3g}" if result.get("chi2_per_dof") is not None else
+             f"{Path(args.data).name}: {result['model']} fit"]
+    for name, value in result["params"].items():
+        err = result["errors"].get(name)
+        unit = units.get(name, "")
+        unit = "" if unit in ("1", "dimensionless") else unit
+        lines.append(f"  {name} = {value:.6g} +- {err:.2g} {unit}".rstrip() if err is not None
+                     else f"  {name} = {value:.6g} {unit} (fixed or unconstrained)".rstrip())
+    lines += [f"note: {m}" for m in result.get("messages", [])]
+    _emit(args, result, "\n".join(lines))
+    return 0
+
+
 def cmd_demo(args):
     from .design import load_design
     from .output import write_text
@@ -592,13 +672,36 @@ def cmd_demo(args):
     results = []
     for path in _progress(designs, args, "designs"):
         design = load_design(path)
-        results.append(_pattern_outputs(design, args.out, args.force, args.quiet))
+        files = []
+        for job in _jobs_for(design):
+            sub = argparse.Namespace(design=path, out=args.out, force=args.force, json=True,
+                                     quiet=True, debug=args.debug, toward=None, write=None,
+                                     shots=400, seed=0)
+            with _silenced():
+                job(sub)
+            files += sub.summary.get("files", [])
+        results.append({"design": design.name, "description": design.description,
+                        "files": files})
     index = _gallery_index(results, args.out)
-    write_text(args.out / "index.html", index, force=True if args.force else False)
-    summary = {"designs": [r["design"] for r in results], "index": str(args.out / "index.html")}
+    write_text(args.out / "index.html", index, force=args.force)
+    summary = {"designs": [r["design"] for r in results], "index": str(args.out / "index.html"),
+               "files": [f for r in results for f in r["files"]]}
     _emit(args, summary, f"gallery written to {args.out / 'index.html'} "
-                         f"({sum(len(r['files']) for r in results)} files)")
+                         f"({len(summary['files'])} files from {len(results)} designs)")
     return 0
+
+
+class _silenced:
+    """Swallow what a sub-job prints (the demo prints one line of its own)."""
+
+    def __enter__(self):
+        import io
+
+        self.old, sys.stdout = sys.stdout, io.StringIO()
+
+    def __exit__(self, *exc):
+        sys.stdout = self.old
+        return False
 
 
 def _progress(items, args, what):
@@ -622,7 +725,8 @@ def _gallery_index(results, out: Path) -> str:
                              f'alt="{html.escape(name)}" width="280"></a>')
             else:
                 links.append(f'<a href="{html.escape(name)}">{html.escape(name)}</a>')
-        rows.append(f"<section><h2>{html.escape(r['design'])}</h2>\n<p>" + "\n".join(links)
+        rows.append(f"<section><h2>{html.escape(r['design'])}</h2>\n"
+                    f"<p>{html.escape(r.get('description', ''))}</p>\n<p>" + "\n".join(links)
                     + "</p></section>")
     return ("<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
             "<title>thzarray gallery</title><style>body{font-family:sans-serif;margin:2em}"

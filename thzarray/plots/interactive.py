@@ -173,3 +173,22 @@ def sky_slider(x_deg, y_deg, maps, steps, title, label, slider_label):
                       xaxis=dict(title="theta cos(phi) (deg)", scaleanchor="y"),
                       yaxis=dict(title="theta sin(phi) (deg)"))
     return fig
+
+
+def fit_plot(angle, signal, model, sigma, title):
+    """Measured scan, fitted model and residuals (angle in rad)."""
+    from plotly.subplots import make_subplots
+
+    deg = np.degrees(angle)
+    fig = make_subplots(rows=2, cols=1, shared_xaxes=True, row_heights=[0.75, 0.25])
+    err = None if sigma is None else dict(type="data", array=list(sigma))
+    fig.add_trace(go.Scatter(x=deg, y=signal, mode="markers", name="measured", error_y=err),
+                  row=1, col=1)
+    fig.add_trace(go.Scatter(x=deg, y=model, mode="lines", name="fitted model"), row=1, col=1)
+    fig.add_trace(go.Scatter(x=deg, y=np.asarray(signal) - np.asarray(model), mode="markers",
+                             name="residual"), row=2, col=1)
+    fig.update_layout(title=title, template="plotly_white")
+    fig.update_xaxes(title_text="angle (deg)", row=2, col=1)
+    fig.update_yaxes(title_text="signal", row=1, col=1)
+    fig.update_yaxes(title_text="residual", row=2, col=1)
+    return fig

@@ -189,3 +189,25 @@ def histogram(samples, xlabel, title, markers=()):
     if markers:
         ax.legend(fontsize=8)
     return fig
+
+
+def fit_plot(angle, signal, model, sigma, title, xlabel="angle (deg)"):
+    """Measured scan with the fitted model above, residuals below (angle in rad)."""
+    fig = Figure(figsize=(6.4, 5.0), layout="constrained")
+    top, bottom = fig.subplots(2, 1, sharex=True, height_ratios=[3, 1])
+    deg = np.degrees(angle)
+    if sigma is not None:
+        top.errorbar(deg, signal, yerr=sigma, fmt="o", ms=3, color="0.3", label="measured")
+    else:
+        top.plot(deg, signal, "o", ms=3, color="0.3", label="measured")
+    top.plot(deg, model, color=_colours(2)[1], label="fitted model")
+    top.set_ylabel("signal")
+    top.set_title(title)
+    top.legend(fontsize=8)
+    top.grid(True, alpha=0.3)
+    bottom.axhline(0, color="0.5", lw=0.8)
+    bottom.plot(deg, np.asarray(signal) - np.asarray(model), "o", ms=3, color=_colours(1)[0])
+    bottom.set_xlabel(xlabel)
+    bottom.set_ylabel("residual")
+    bottom.grid(True, alpha=0.3)
+    return fig
