@@ -13,6 +13,8 @@ import numpy as np
 import pytest
 import xarray as xr
 from numpy.testing import assert_allclose, assert_array_equal
+from scipy.constants import c, epsilon_0, mu_0
+from scipy.special import sici
 
 from thzarray import sweep as sw
 from thzarray.cone import cone_angle
@@ -127,7 +129,8 @@ def test_task_keys_follow_inputs_not_file_layout(tmp_path):
 # --- results ---------------------------------------------------------------------------------
 
 def test_serial_results_are_labelled_by_their_parameters(tmp_path):
-    path = _write(tmp_path, GRID.replace("cut = {}", "cut = {}\ncone = {}"))
+    path = _write(tmp_path, GRID.replace(
+        "cut = {}", "cut = {}\ncone = {}\nenergy_density = {}"))
     s = sw.load_sweep(path)
     ds = sw.run_serial(s, tmp_path / "out", progress=False).dataset
     assert ds["cut"].dims == ("filaments[*].length", "filaments[1].delay", "freq", "theta")
@@ -149,8 +152,39 @@ def test_serial_results_are_labelled_by_their_parameters(tmp_path):
             assert_array_equal(ds["cut"][i, j].values, ff.energy_density.mean(axis=2))
             assert_array_equal(ds["cone_angle_uniform"][i, j].values,
                                cone_angle(np.full((2, 1), length), g.freq[None, :]))
+            assert_array_equal(ds["energy_density"][i, j].values, ff.energy_density)
     assert_allclose(ds["filaments[*].length"], [0.05, 0.10, 0.15], rtol=1e-15)
     assert_allclose(ds["filaments[1].delay"], [0.0, 300e-15], rtol=1e-15, atol=0)
+
+
+def test_spectral_energy_of_single_columns(tmp_path):
+    text = """\
+[sweep]
+name = "Energy"
+design = "single.toml"
+
+[measures]
+spectral_energy = {}
+
+[vary]
+"filament.length" = ["2 cm", "5 cm"]
+"""
+    ds = sw.run_serial(sw.load_sweep(_write(tmp_path, text, SINGLE, "single.toml")),
+                       tmp_path / "out", progress=False).dataset
+    assert ds["spectral_energy"].attrs["units"] == "J/Hz per (A s)^2"
+    freq = ds["freq"].values
+    for i, length in enumerate(ds["filament.length"].values):
+        # C. A. Balanis, Antenna Theory, traveling-wave (long-wire) antenna in vacuum, 1 A s:
+        # dW/df = 2 eps0 c (w mu0 / 4 pi)^2 2 pi (4 / k^2)
+        #         [gamma + ln(2 k L) - Ci(2 k L) - 1 + sin(2 k L) / (2 k L)], k = w / c.
+        k = 2 * np.pi * freq / c
+        kl = k * length
+        bracket = (np.euler_gamma + np.log(2 * kl) - sici(2 * kl)[1] - 1
+                   + np.sin(2 * kl) / (2 * kl))
+        expected = (2 * epsilon_0 * c * (2 * np.pi * freq * mu_0 / (4 * np.pi)) ** 2
+                    * 2 * np.pi * (4 / k**2) * bracket)
+        # Sphere quadrature against the closed form: 1e-9, as the far-field tests allow.
+        assert_allclose(ds["spectral_energy"][i].values, expected, rtol=1e-9)
 
 
 def test_jitter_free_build_equals_the_design(tmp_path):
@@ -362,7 +396,14 @@ BAD = [
     ('"filaments[*].length"', '"filaments[*].start"',
      "vary.filaments[*].start: vector of length values cannot be varied"),
     ('"filaments[*].length"', '"filament.length"',
-     "vary.filament.length: the design has [[filaments]]; allowed: filaments[*].length"),
+     "vary.filament.length: the design has [filaments], not [filament]; allowed: "
+     "filaments[*].length"),
+    ('"filaments[*].length"', '"layout.spacing"',
+     "vary.layout.spacing: the design has [filaments], not [layout]"),
+    ('"filaments[*].length"', '"plasma.radios"',
+     "vary.plasma.radios: unknown key 'radios' (did you mean 'radius'?)"),
+    ('"filaments[*].length"', '"medum.temperature"',
+     "vary.medum.temperature: unknown section 'medum' (did you mean 'medium'?)"),
     ('"filaments[*].length"', '"filaments[7].length"',
      "vary.filaments[7].length: column 7 does not exist; allowed: 0 to 1 or *"),
     ('"5 cm"', '"-5 cm"', "vary.filaments[*].length[0]: '-5 cm' is out of range; "
@@ -423,3 +464,47 @@ def test_dotted_and_quoted_keys_are_the_same_path(tmp_path):
     assert_array_equal(s.axes[1].values, [10.0, 30.0])
     doubled = text.replace("medium.temperature", "filament.length")
     assert any("given more than once" in p for p in _problems(tmp_path, doubled, SINGLE))
+
+
+LINE = PAIR.split("[[filaments]]")[0] + """\
+[layout]
+kind = "line"
+count = 2
+spacing = "4 mm"
+length = "10 cm"
+
+[observe]
+freq = ["0.3 THz", "0.6 THz"]
+theta = { start = "0 deg", stop = "12 deg", points = 25 }
+phi = { start = "0 deg", stop = "360 deg", points = 7 }
+"""
+
+
+def test_layout_counts_and_spacings(tmp_path):
+    text = """\
+[sweep]
+name = "Line"
+design = "line.toml"
+
+[measures]
+cut = {}
+
+[vary]
+"layout.count" = [1, 2]
+"layout.spacing" = ["4 mm", "6 mm"]
+"""
+    path = _write(tmp_path, text, LINE, "line.toml")
+    ds = sw.run_serial(sw.load_sweep(path), tmp_path / "out", progress=False).dataset
+    assert ds["layout.count"].dtype == np.int64 and ds["layout.count"].attrs["units"] == "1"
+    base = parse_design(tomllib.loads(PAIR))
+    g = base.grid
+    one = far_field(type(base.sources[0])(0.1), g.freq[:, None, None], g.theta[:, None], g.phi)
+    k = 2 * np.pi * g.freq[:, None, None] / c
+    for j, d in enumerate(ds["layout.spacing"].values):
+        # Balanis, Antenna Theory (4th ed.), sec. 6.2: two equal in-phase elements at +-d/2
+        # on x multiply the element pattern by |AF|^2 = 4 cos^2(k d sin(theta) cos(phi) / 2).
+        af2 = 4 * np.cos(0.5 * k * d * np.sin(g.theta[:, None]) * np.cos(g.phi)) ** 2
+        assert_allclose(ds["cut"][1, j].values, (one.energy_density * af2).mean(axis=2),
+                        rtol=1e-10, atol=0)
+        assert_allclose(ds["cut"][0, j].values, one.energy_density.mean(axis=2),
+                        rtol=1e-12, atol=0)

@@ -71,10 +71,9 @@ _SWEEP_KEYS = {"name": "a short name (file names are made from it)",
                "seeds": "a count n (seeds 0 to n-1) or a list of distinct integers >= 0",
                "every_seed": "true to compute seedless measures for every seed too"}
 _SECTIONS = ("sweep", "measures", "vary")
-_VARY_SECTIONS = ("medium", "plasma", "filament", "filaments")
 _FIXED_SECTIONS = {"design": "names the design", "observe": "sets the measures' own axes",
-                   "cone": "is not read by the measures", "outputs": "is not read by the "
-                   "measures"}
+                   "outputs": "chooses output files"}
+_SOURCE_SECTIONS = ("filament", "filaments", "layout")   # a design has one of them
 _KEY_PATH = re.compile(r"^(?P<section>[a-z_]+)(?:\[(?P<index>\*|\d+)\])?\.(?P<key>[a-z_0-9]+)$")
 _RANGE_KEYS = ("start", "stop", "points")
 
@@ -155,13 +154,18 @@ def _coords(design, names):
     return {n: table[n] for n in names}
 
 
+def _energy_density(design, sources):
+    """Energy density (F, T, P) of ``sources`` on the design's (freq, theta, phi) grid."""
+    g = design.grid
+    return far_field(sources, g.freq[:, None, None], g.theta[:, None], g.phi, design.medium,
+                     design.plasma).energy_density
+
+
 def _cut_dataset(design, sources, prefix):
     import xarray as xr
 
     g = design.grid
-    ff = far_field(sources, g.freq[:, None, None], g.theta[:, None], g.phi, design.medium,
-                   design.plasma)
-    cut = ff.energy_density.mean(axis=2)
+    cut = _energy_density(design, sources).mean(axis=2)
     cone = g.theta[np.argmax(cut, axis=1)]
     return xr.Dataset(
         {f"{prefix}cut": (("freq", "theta"), cut,
@@ -191,11 +195,8 @@ def measure_energy_density(design: Design, seed):
     """Spectral-angular energy density on the full (freq, theta, phi) grid, J/(Hz sr)."""
     import xarray as xr
 
-    g = design.grid
-    ff = far_field(design.sources, g.freq[:, None, None], g.theta[:, None], g.phi,
-                   design.medium, design.plasma)
     return xr.Dataset(
-        {"energy_density": (("freq", "theta", "phi"), ff.energy_density,
+        {"energy_density": (("freq", "theta", "phi"), _energy_density(design, design.sources),
                             {"units": _energy_unit(design),
                              "long_name": "spectral-angular energy density"})},
         coords=_coords(design, ("freq", "theta", "phi")))
@@ -252,12 +253,21 @@ def measure_jittered_cut(design: Design, seed, timing_jitter):
 
 @dataclass(frozen=True, eq=False)
 class Axis:
-    """One varied design key: its path, its values (SI) and their unit."""
+    """One varied design key: its path, its values (SI floats or integers) and their unit."""
 
     key: str
     values: np.ndarray
     unit: str
     doc: str = ""
+
+    def value(self, i):
+        """The i-th value as the design file takes it (float, or int for counts)."""
+        v = self.values[i]
+        return int(v) if self.values.dtype.kind == "i" else float(v)
+
+    def text(self, i) -> str:
+        """The i-th value with its unit, e.g. ``0.2 m``."""
+        return f"{self.values[i]:.6g}{'' if self.unit == '1' else ' ' + self.unit}"
 
 
 @dataclass(frozen=True, eq=False)
@@ -306,7 +316,7 @@ class Sweep:
         """The base design's TOML data with the axis values at ``index`` substituted."""
         data = copy.deepcopy(self.design.raw)
         for axis, i in zip(self.axes, index):
-            _substitute(data, axis.key, float(axis.values[i]))
+            _substitute(data, axis.key, axis.value(i))
         return data
 
     def tasks(self) -> Iterator[Task]:
@@ -322,8 +332,7 @@ class Sweep:
 
     def describe(self, task: Task) -> str:
         """The task's parameters as one line, e.g. ``filament.length = 0.2 m, seed 3``."""
-        parts = [f"{a.key} = {a.values[i]:.6g}{'' if a.unit == '1' else ' ' + a.unit}"
-                 for a, i in zip(self.axes, task.index)]
+        parts = [f"{a.key} = {a.text(i)}" for a, i in zip(self.axes, task.index)]
         parts.append(f"measure {task.measure}")
         if task.seed is not None:
             parts.append(f"seed {task.seed}")
@@ -360,57 +369,65 @@ def _flatten(table, prefix=""):
     return out
 
 
-def _sweepable():
-    keys = []
-    for section in ("medium", "plasma", "filament"):
-        for key, spec in SCHEMA[section].items():
-            if spec.kind in DIMENSIONS:
-                keys.append(f"{section}.{key}")
-    keys += [f"filaments[*].{k.split('.')[1]}" for k in keys if k.startswith("filament.")]
-    return keys
+def _schema_of(section):
+    return SCHEMA.get("filament" if section == "filaments" else section)
+
+
+def _is_sweepable(spec):
+    return spec.kind in DIMENSIONS or spec.kind == "int"
+
+
+def _sweepable(section):
+    """Key paths of one section that hold a single quantity or whole number."""
+    schema = _schema_of(section) or {}
+    head = "filaments[*]" if section == "filaments" else section
+    return [f"{head}.{k}" for k, spec in schema.items() if _is_sweepable(spec)]
+
+
+def _vary_sections():
+    return [s for s in list(SCHEMA) + ["filaments"] if s not in _FIXED_SECTIONS]
 
 
 def _axis_spec(problems, key, design: Design):
     """The schema entry a key path addresses, or None with the problem recorded."""
-    allowed = _sweepable()
+    sections = _vary_sections()
     m = _KEY_PATH.match(key)
     if m is None:
-        problems.append(f"vary.{key}: not a key path{_suggest(key, allowed)}; allowed: "
-                        "section.key, e.g. " + ", ".join(allowed[:4]) + ", ...")
+        problems.append(f"vary.{key}: not a key path; allowed: section.key such as "
+                        "medium.relative_humidity, filament.length, filaments[*].delay")
         return None
     section, index, name = m["section"], m["index"], m["key"]
     if section in _FIXED_SECTIONS:
         problems.append(f"vary.{key}: [{section}] {_FIXED_SECTIONS[section]} and cannot be "
-                        f"varied; allowed: keys of {', '.join(_VARY_SECTIONS)}")
+                        f"varied; allowed: keys of {', '.join(sections)}")
         return None
-    if section not in _VARY_SECTIONS:
-        problems.append(f"vary.{key}: unknown section {section!r}"
-                        f"{_suggest(section, _VARY_SECTIONS)}; allowed: "
-                        f"{', '.join(_VARY_SECTIONS)}")
+    schema = _schema_of(section)
+    if schema is None:
+        problems.append(f"vary.{key}: unknown section {section!r}{_suggest(section, sections)};"
+                        f" allowed: {', '.join(sections)}")
         return None
-    schema = SCHEMA["filament" if section == "filaments" else section]
+    allowed = ", ".join(_sweepable(section)) or "none"
     if name not in schema:
         problems.append(f"vary.{key}: unknown key {name!r}{_suggest(name, list(schema))}; "
-                        f"allowed: {', '.join(k for k in allowed if k.startswith(section))}")
+                        f"allowed: {allowed}")
         return None
     spec = schema[name]
-    if spec.kind not in DIMENSIONS:
+    if not _is_sweepable(spec):
         problems.append(f"vary.{key}: {spec.kind.replace(':', ' of ')} values cannot be "
-                        f"varied; allowed: {', '.join(allowed)}")
+                        f"varied; allowed: {allowed}")
         return None
     raw = design.raw
-    if section == "filament" and index is not None:
-        problems.append(f"vary.{key}: [filament] takes no index; allowed: filament.{name}")
+    if section in _SOURCE_SECTIONS and section not in raw:
+        has = next(s for s in _SOURCE_SECTIONS if s in raw)
+        hint = {"filament": f"filament.{name}", "layout": f"layout.{name}",
+                "filaments": f"filaments[*].{name} (every column) or filaments[i].{name}"}[has]
+        problems.append(f"vary.{key}: the design has [{has}], not [{section}]; allowed: "
+                        f"{hint}")
         return None
-    if section == "filament" and "filaments" in raw:
-        problems.append(f"vary.{key}: the design has [[filaments]]; allowed: "
-                        f"filaments[*].{name} (every column) or filaments[i].{name}")
+    if section != "filaments" and index is not None:
+        problems.append(f"vary.{key}: [{section}] takes no index; allowed: {section}.{name}")
         return None
     if section == "filaments":
-        if "filaments" not in raw:
-            problems.append(f"vary.{key}: the design has one [filament]; allowed: "
-                            f"filament.{name}")
-            return None
         count = len(raw["filaments"])
         if index is None:
             problems.append(f"vary.{key}: which column?; allowed: filaments[*].{name} or "
@@ -431,28 +448,38 @@ def _count(value) -> int | None:
     return None
 
 
+def _axis_values(checker, key, value, spec):
+    if spec.kind == "int":
+        if not isinstance(value, list) or not value:
+            checker.fail(f"vary.{key}", value, "a list of whole numbers")
+            return None
+        out = [checker.value(f"vary.{key}[{i}]", v, spec) for i, v in enumerate(value)]
+        return None if any(o is None for o in out) else np.array(out, dtype=np.int64)
+    grid = Spec(f"grid:{spec.kind}", low=spec.low, high=spec.high, low_open=spec.low_open)
+    out = checker.value(f"vary.{key}", value, grid)
+    return None if out is None else np.asarray(out, dtype=float)
+
+
 def _axis(problems, key, value, spec, design):
     checker = _Checker()
-    grid = Spec(f"grid:{spec.kind}", low=spec.low, high=spec.high, low_open=spec.low_open)
-    values = checker.value(f"vary.{key}", value, grid)
+    values = _axis_values(checker, key, value, spec)
     problems += checker.problems
     if values is None:
         return None
-    values = np.asarray(values, dtype=float)
+    unit = DIMENSIONS[spec.kind][1] if spec.kind in DIMENSIONS else ""
+    axis = Axis(key, values, unit or "1", spec.doc)
     if np.unique(values).size != values.size:
         problems.append(f"vary.{key}: {value!r} repeats a value; allowed: distinct values")
         return None
-    for v in sorted({values[0], values[-1]}):
+    for i in sorted({0, values.size - 1}):
         data = copy.deepcopy(design.raw)
-        _substitute(data, key, float(v))
+        _substitute(data, key, axis.value(i))
         try:
             parse_design(data, design.path)
         except DesignError as exc:
-            unit = DIMENSIONS[spec.kind][1]
-            problems += [f"vary.{key} = {v:.6g}{' ' + unit if unit else ''}: {p}"
-                         for p in exc.problems]
+            problems += [f"vary.{key} = {axis.text(i)}: {p}" for p in exc.problems]
             return None
-    return Axis(key, values, DIMENSIONS[spec.kind][1] or "1", spec.doc)
+    return axis
 
 
 def _measures(problems, table):
