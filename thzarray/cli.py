@@ -156,6 +156,38 @@ def build_parser() -> argparse.ArgumentParser:
     _common(p)
     p.set_defaults(func=cmd_fit)
 
+    p = sub.add_parser("focus", help="pick lens and pulse energy for a target cone: cone angle "
+                                     "at the band versus focal length and energy",
+                       epilog="example:\n  thzarray focus --angle '6 deg' --band '0.2 THz,0.4 THz' "
+                              "--energy '0.5 mJ,1 mJ,2 mJ'\n\n" + SAFETY_SHORT,
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("--angle", required=True, help="target cone angle, e.g. '6 deg'")
+    p.add_argument("--band", required=True, help="receiver band LOW,HIGH, e.g. '0.2 THz,0.4 THz'")
+    p.add_argument("--energy", default="0.5 mJ,1 mJ,2 mJ,4 mJ", help="pulse energies, comma list")
+    p.add_argument("--duration", default="50 fs", help="pulse duration (intensity FWHM)")
+    p.add_argument("--beam-radius", default="5 mm", help="1/e^2 intensity radius at the lens")
+    p.add_argument("--focal", default="0.2 m,5 m", help="focal-length range of the chart LOW,HIGH")
+    _medium_flags(p)
+    _common(p)
+    p.set_defaults(func=cmd_focus)
+
+    p = sub.add_parser("sweep", help="parameter study over design keys and seeds on dask "
+                                     "(local cluster by default), resumable",
+                       epilog="examples:\n  thzarray sweep designs/sweeps/length_scan.toml --out results\n"
+                              "  thzarray sweep study.toml --scheduler tcp://HOST:8786\n\n"
+                              "Sweep-file format: designs/sweeps/README.md.\n\n" + SAFETY_SHORT,
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("sweep", type=Path, help="sweep file (TOML)")
+    p.add_argument("--workers", type=int, default=2,
+                   help="worker processes of the local cluster on 127.0.0.1 (default 2)")
+    where = p.add_mutually_exclusive_group()
+    where.add_argument("--scheduler", metavar="ADDRESS",
+                       help="use a running dask scheduler, e.g. tcp://HOST:8786")
+    where.add_argument("--serial", action="store_true", help="run in this process without dask")
+    p.add_argument("--recompute", action="store_true", help="ignore finished parts")
+    _common(p)
+    p.set_defaults(func=cmd_sweep)
+
     p = sub.add_parser("demo", help="run every design in designs/ and write the gallery",
                        epilog="example:\n  thzarray demo --out gallery --force\n\n" + SAFETY_SHORT,
                        formatter_class=argparse.RawDescriptionHelpFormatter)
@@ -660,6 +692,76 @@ def cmd_fit(args):
     return 0
 
 
+def _quantity_list(flag, text, kind):
+    return np.array([_quantity(flag, part.strip(), kind) for part in text.split(",") if part.strip()])
+
+
+def cmd_focus(args):
+    from .laser import focusing_chart, focusing_for_cone
+    from .plots import interactive, static
+
+    medium = _medium_from_flags(args)
+    angle = _quantity("angle", args.angle, "angle")
+    band = _quantity_list("band", args.band, "frequency")
+    energy = _quantity_list("energy", args.energy, "energy")
+    focal_range = _quantity_list("focal", args.focal, "length")
+    if band.size != 2 or band[1] <= band[0]:
+        raise UsageError(f"--band: {args.band!r} is not allowed; allowed: LOW,HIGH with LOW < HIGH")
+    if focal_range.size != 2 or not 0 < focal_range[0] < focal_range[1]:
+        raise UsageError(f"--focal: {args.focal!r} is not allowed; allowed: LOW,HIGH with "
+                         "0 < LOW < HIGH")
+    freq = np.linspace(band[0], band[1], 9)
+    opts = dict(duration=_quantity("duration", args.duration, "time"),
+                beam_radius=_quantity("beam-radius", args.beam_radius, "length"), medium=medium)
+    with _spinner(args, "focusing chart"):
+        focal, length = focusing_for_cone(angle, energy, freq, **opts)
+        grid = np.geomspace(focal_range[0], focal_range[1], 40)
+        chart = focusing_chart(grid, energy, freq, **opts)
+    labels = [f"{e * 1e3:.3g} mJ" for e in energy]
+    title = (f"cone angle at {band[0] / 1e12:.3g}-{band[1] / 1e12:.3g} THz vs lens focal length "
+             f"(target {np.degrees(angle):.3g} deg)")
+    curves = [np.degrees(chart.cone_angle[:, j]) for j in range(energy.size)]
+    target = [np.full(grid.shape, np.degrees(angle))]
+    files = _write_all(args.out, args.force, ("png", "html", "csv"),
+                       figures=[("focusing_chart",
+                                 lambda: static.line_chart(grid, curves + target,
+                                                           labels + ["target"], "lens focal length (m)",
+                                                           "cone angle (deg)", title),
+                                 lambda: interactive.line_chart(grid, curves + target,
+                                                                labels + ["target"],
+                                                                "lens focal length (m)",
+                                                                "cone angle (deg)", title))],
+                       tables=[("focusing_chart", _csv(["focal_length_m"] + [f"cone_deg_{lab.replace(' ', '')}"
+                                                                             for lab in labels],
+                                                       [grid] + curves))])
+    summary = {"target_angle_deg": float(np.degrees(angle)), "column_length_m": float(length),
+               "energy_j": energy.tolist(),
+               "focal_length_m": [None if not np.isfinite(f) else float(f) for f in focal],
+               "files": files}
+    rows = "\n".join(f"  {e * 1e3:5.3g} mJ: lens f = {f:.3f} m" if np.isfinite(f) else
+                      f"  {e * 1e3:5.3g} mJ: no lens in range gives it" for e, f in zip(energy, focal))
+    _emit(args, summary, f"a {np.degrees(angle):.3g} deg cone needs a {100 * length:.3g} cm column:\n"
+                         + rows)
+    return 0
+
+
+def cmd_sweep(args):
+    from .sweep import load_sweep, run_serial, run_sweep
+
+    sweep = load_sweep(args.sweep)
+    show = not (args.quiet or args.json)
+    if args.serial:
+        result = run_serial(sweep, args.out, force=args.force, recompute=args.recompute,
+                            progress=show)
+    else:
+        result = run_sweep(sweep, args.out, scheduler=args.scheduler, n_workers=args.workers,
+                           force=args.force, recompute=args.recompute, progress=show)
+    summary = result.summary()
+    _emit(args, summary, f"{sweep.name}: {summary['tasks']} tasks ({result.computed} computed, "
+                         f"{result.reused} reused); wrote {result.path}")
+    return 0
+
+
 def cmd_demo(args):
     from .design import load_design
     from .output import write_text
@@ -682,6 +784,16 @@ def cmd_demo(args):
             files += sub.summary.get("files", [])
         results.append({"design": design.name, "description": design.description,
                         "files": files})
+    sub = argparse.Namespace(angle="6 deg", band="0.2 THz,0.4 THz", energy="0.5 mJ,1 mJ,2 mJ,4 mJ",
+                             duration="50 fs", beam_radius="5 mm", focal="0.2 m,5 m",
+                             vacuum=False, temperature="15 degC", pressure="1013.25 hPa",
+                             humidity="0 %", laser_wavelength="800 nm", out=args.out,
+                             force=args.force, json=True, quiet=True, debug=args.debug)
+    with _silenced():
+        cmd_focus(sub)
+    results.append({"design": "Focusing for a 6 degree cone (command line)",
+                    "description": "thzarray focus --angle '6 deg' --band '0.2 THz,0.4 THz'",
+                    "files": sub.summary["files"]})
     index = _gallery_index(results, args.out)
     write_text(args.out / "index.html", index, force=args.force)
     summary = {"designs": [r["design"] for r in results], "index": str(args.out / "index.html"),

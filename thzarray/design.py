@@ -322,8 +322,8 @@ class _Checker:
         unknown = [k for k in value if k not in _GRID_KEYS]
         for k in unknown:
             self.problems.append(f"{path}.{k}: unknown key{_suggest(k, _GRID_KEYS)}; "
-                                 f"allowed: {', '.join(_GRID_KEYS)}")
-        missing = [k for k in _GRID_KEYS if k not in value]
+                                 f"allowed: a grid table of exactly {', '.join(_GRID_KEYS)}")
+        missing = [] if unknown else [k for k in _GRID_KEYS if k not in value]
         for k in missing:
             self.problems.append(f"{path}.{k}: missing; allowed: a grid needs start, stop, "
                                  "points")
@@ -419,18 +419,19 @@ _LAYOUT_NEEDS = {"line": ("count", "spacing", "length"), "grid": ("shape", "spac
                  "random": ("count", "radius", "length"), "csv": ("csv",)}
 
 
-def _layout(checker, lay, path):
+def _layout(checker, lay, path, raw):
     """Filaments from a [layout] builder (None on problems, already reported)."""
     from . import layouts
 
     if lay is None or lay.get("kind") is None:
         return None
     kind = lay["kind"]
-    missing = [k for k in _LAYOUT_NEEDS[kind] if lay.get(k) is None]
+    missing = [k for k in _LAYOUT_NEEDS[kind] if k not in raw]
     for k in missing:
         checker.problems.append(f"layout.{k}: missing; allowed: layout kind {kind!r} needs "
                                 + ", ".join(_LAYOUT_NEEDS[kind]))
-    if missing or any(lay[k] is None for k in ("center", "axis")):
+    invalid = any(lay.get(k) is None for k in _LAYOUT_NEEDS[kind] + ("center", "axis"))
+    if missing or invalid:
         return None
     common = dict(center=lay["center"], axis=lay["axis"])
     if kind == "csv":
@@ -552,7 +553,8 @@ def parse_design(data: dict, path: Path | None = None) -> Design:
         checker.problems.append(f"{given[1]}: both [{given[0]}] and [{given[1]}] given; "
                                 "allowed: one of [filament], [[filaments]], [layout]")
     elif "layout" in data and isinstance(data["layout"], dict):
-        sources += list(_layout(checker, _section(checker, data, "layout"), path) or [None])
+        sources += list(_layout(checker, _section(checker, data, "layout"), path,
+                                data["layout"]) or [None])
     elif "filament" in data:
         sources.append(_filament(checker, "filament", _section(checker, data, "filament")))
     elif "filaments" in data:
