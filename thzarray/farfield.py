@@ -42,6 +42,7 @@ from scipy.constants import c, epsilon_0, mu_0
 from scipy.special import roots_legendre, spherical_jn
 
 from . import _kernels
+from ._memory import DEFAULT_MEMORY_BUDGET, check_result_fits, chunk_points
 from ._validate import as_float_array
 from .filament import Filament, as_sources
 from .medium import Medium
@@ -57,8 +58,9 @@ __all__ = [
     "unit_vectors",
 ]
 
-# Largest number of evaluation points handled in one pass; bounds temporary memory.
-_CHUNK_POINTS = 1 << 21
+# Temporary bytes per evaluation point of the pointwise path (inputs, sums and the numpy
+# twin's intermediate arrays), used to size chunks within the memory budget.
+_TEMP_BYTES_PER_POINT = 512
 
 
 def unit_vectors(theta, phi):
@@ -161,7 +163,8 @@ def _profiled_sum(fil: Filament, freq, theta, phi, medium, compiled):
 
 
 def far_field(sources, freq, theta, phi, medium: Medium | None = None,
-              plasma: Plasma | None = None, *, compiled: bool = True) -> FarField:
+              plasma: Plasma | None = None, *, compiled: bool = True,
+              memory_budget: float = DEFAULT_MEMORY_BUDGET) -> FarField:
     """Far field of filaments summed coherently.
 
     Parameters
@@ -180,6 +183,9 @@ def far_field(sources, freq, theta, phi, medium: Medium | None = None,
         Sets the current spectrum; without it the current spectrum is 1 A s.
     compiled : bool
         Use the numba kernels (default) or their numpy twins.
+    memory_budget : float
+        Bytes this call may use (default 2 GiB): temporaries are chunked to fit; a result
+        (32 bytes per point) that does not fit by itself raises ValueError.
 
     Returns
     -------
@@ -195,6 +201,9 @@ def far_field(sources, freq, theta, phi, medium: Medium | None = None,
     medium = Medium.vacuum() if medium is None else medium
     freq, theta, phi, shape = _check_angles(freq, theta, phi)
     size = int(np.prod(shape))
+    result_bytes = 32 * size
+    check_result_fits("far_field", result_bytes, memory_budget)
+    chunk = chunk_points(memory_budget, result_bytes, _TEMP_BYTES_PER_POINT)
     uniform = [f for f in fils if f.is_uniform]
     profiled = [f for f in fils if not f.is_uniform]
     packed = _pack_uniform(uniform) if uniform else None
@@ -217,8 +226,8 @@ def far_field(sources, freq, theta, phi, medium: Medium | None = None,
     bf, bt, bp = (np.broadcast_to(x, shape) for x in (freq, theta, phi))
     bpref = np.broadcast_to(pref, shape)
     kernel = _kernels.uniform_sum if compiled else _kernels.uniform_sum_numpy
-    for i0 in range(0, size, _CHUNK_POINTS):
-        i1 = min(size, i0 + _CHUNK_POINTS)
+    for i0 in range(0, size, chunk):
+        i1 = min(size, i0 + chunk)
         f_c, t_c, p_c = (np.ascontiguousarray(x.flat[i0:i1]) for x in (bf, bt, bp))
         p_f = bpref.flat[i0:i1]
         if pointwise_uniform:

@@ -49,6 +49,7 @@ import numpy as np
 from scipy.constants import c, mu_0
 
 from . import _near_kernels
+from ._memory import DEFAULT_MEMORY_BUDGET, check_result_fits, chunk_points
 from ._validate import as_float_array
 from .farfield import radiation_prefactor
 from .filament import as_sources
@@ -68,6 +69,8 @@ MIN_DISTANCE_WAVELENGTHS = 0.01
 
 # Largest number of (frequency, point) pairs handled in one pass; bounds temporary memory.
 _CHUNK_PAIRS = 1 << 18
+# Temporary bytes per point of one chunk (inputs, kernel outputs, numpy-twin panels).
+_TEMP_BYTES_PER_POINT = 4096
 
 
 @dataclass(frozen=True, eq=False)
@@ -177,7 +180,8 @@ def _check_inputs(fils, freq, points, medium):
 
 
 def fields_at(sources, freq, points, medium: Medium | None = None,
-              plasma: Plasma | None = None, *, compiled: bool = True) -> NearField:
+              plasma: Plasma | None = None, *, compiled: bool = True,
+              memory_budget: float = DEFAULT_MEMORY_BUDGET) -> NearField:
     """Electric and magnetic field spectra of filaments at finite distance.
 
     Parameters
@@ -194,6 +198,9 @@ def fields_at(sources, freq, points, medium: Medium | None = None,
         Sets the current spectrum; without it I(w) = 1 A s.
     compiled : bool
         Numba kernel (default) or its numpy twin.
+    memory_budget : float
+        Bytes this call may use (default 2 GiB): points are processed in chunks that fit; a
+        result (96 bytes per point for E and H) that does not fit raises ValueError.
 
     Returns
     -------
@@ -208,16 +215,19 @@ def fields_at(sources, freq, points, medium: Medium | None = None,
     medium = Medium.vacuum() if medium is None else medium
     freq, points, shape = _check_inputs(fils, freq, points, medium)
     packed = _pack(fils)
-    bf = np.broadcast_to(freq, shape).reshape(-1)
-    bp = np.broadcast_to(points, shape + (3,)).reshape(-1, 3)
+    size = int(np.prod(shape))
+    result_bytes = 96 * size  # E and H, complex, 3 components
+    check_result_fits("fields_at", result_bytes, memory_budget)
+    chunk = min(_CHUNK_PAIRS, chunk_points(memory_budget, result_bytes, _TEMP_BYTES_PER_POINT))
+    bf = np.broadcast_to(freq, shape)
+    bxyz = [np.broadcast_to(points[..., j], shape) for j in range(3)]
     kernel = _near_kernels.line_fields if compiled else _near_kernels.line_fields_numpy
-    size = bf.size
     e = np.empty((size, 3), dtype=complex)
     h = np.empty((size, 3), dtype=complex)
-    for i0 in range(0, size, _CHUNK_PAIRS):
-        i1 = min(size, i0 + _CHUNK_PAIRS)
-        f_c = np.ascontiguousarray(bf[i0:i1])
-        p_c = np.ascontiguousarray(bp[i0:i1])
+    for i0 in range(0, size, chunk):
+        i1 = min(size, i0 + chunk)
+        f_c = np.ascontiguousarray(bf.flat[i0:i1])
+        p_c = np.ascontiguousarray(np.stack([b.flat[i0:i1] for b in bxyz], axis=-1))
         e_c, h_c = kernel(f_c, p_c, *packed, medium.n_group, medium.n_thz)
         k = 2 * np.pi * f_c * medium.n_thz / c
         carrier = np.exp(1j * k * np.linalg.norm(p_c, axis=-1))
@@ -228,7 +238,8 @@ def fields_at(sources, freq, points, medium: Medium | None = None,
 
 
 def field_at(sources, freq, points, medium: Medium | None = None,
-             plasma: Plasma | None = None, *, compiled: bool = True) -> np.ndarray:
+             plasma: Plasma | None = None, *, compiled: bool = True,
+             memory_budget: float = DEFAULT_MEMORY_BUDGET) -> np.ndarray:
     """Electric field spectrum E(w) of filaments at points at finite distance (V s / m).
 
     Parameters
@@ -244,6 +255,8 @@ def field_at(sources, freq, points, medium: Medium | None = None,
         Sets the current spectrum; without it I(w) = 1 A s.
     compiled : bool
         Numba kernel (default) or its numpy twin.
+    memory_budget : float
+        Bytes this call may use (default 2 GiB); see :func:`fields_at`.
 
     Returns
     -------
@@ -261,11 +274,13 @@ def field_at(sources, freq, points, medium: Medium | None = None,
     derivation in the module docstring). Normalisation:
     :math:`R e^{-ikR}\\mathbf E(R\\hat r) \\to` ``far_field(...).cartesian`` as R -> inf.
     """
-    return fields_at(sources, freq, points, medium, plasma, compiled=compiled).e
+    return fields_at(sources, freq, points, medium, plasma, compiled=compiled,
+                     memory_budget=memory_budget).e
 
 
 def magnetic_field_at(sources, freq, points, medium: Medium | None = None,
-                      plasma: Plasma | None = None, *, compiled: bool = True) -> np.ndarray:
+                      plasma: Plasma | None = None, *, compiled: bool = True,
+                      memory_budget: float = DEFAULT_MEMORY_BUDGET) -> np.ndarray:
     """Magnetic field spectrum H(w) of filaments at points at finite distance (A s / m).
 
     Parameters and shapes as for :func:`field_at`.
@@ -277,4 +292,5 @@ def magnetic_field_at(sources, freq, points, medium: Medium | None = None,
 
     (the curl of the vector potential, Jackson eq. 9.18's magnetic part).
     """
-    return fields_at(sources, freq, points, medium, plasma, compiled=compiled).h
+    return fields_at(sources, freq, points, medium, plasma, compiled=compiled,
+                     memory_budget=memory_budget).h
