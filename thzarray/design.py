@@ -21,8 +21,8 @@ from .medium import Medium
 from .plasma import Plasma
 from .units import UnitError, parse_quantity
 
-__all__ = ["Design", "DesignError", "Grid", "load_design", "parse_design", "SCHEMA",
-           "MAX_GRID_POINTS"]
+__all__ = ["Checker", "Design", "DesignError", "Grid", "MAX_GRID_POINTS", "SCHEMA",
+           "Spec", "load_design", "parse_design", "read_toml", "suggest"]
 
 # Largest observation grid a design may request (points x frequencies); larger requests
 # are refused before any memory is allocated.
@@ -212,7 +212,8 @@ class Design:
     raw: dict = field(default_factory=dict, repr=False)
 
 
-def _suggest(key, known):
+def suggest(key, known):
+    """' (did you mean ...?)' for the closest known name, or ''."""
     close = difflib.get_close_matches(key, known, n=1, cutoff=0.6)
     return f" (did you mean {close[0]!r}?)" if close else ""
 
@@ -222,7 +223,9 @@ def _fmt(value):
     return text if len(text) < 60 else text[:57] + "..."
 
 
-class _Checker:
+class Checker:
+    """Collects problems (one line each: key path, value found, what is allowed)."""
+
     def __init__(self):
         self.problems: list[str] = []
 
@@ -321,7 +324,7 @@ class _Checker:
             return None
         unknown = [k for k in value if k not in _GRID_KEYS]
         for k in unknown:
-            self.problems.append(f"{path}.{k}: unknown key{_suggest(k, _GRID_KEYS)}; "
+            self.problems.append(f"{path}.{k}: unknown key{suggest(k, _GRID_KEYS)}; "
                                  f"allowed: a grid table of exactly {', '.join(_GRID_KEYS)}")
         missing = [] if unknown else [k for k in _GRID_KEYS if k not in value]
         for k in missing:
@@ -356,7 +359,7 @@ def _section(checker, data, name, required=False):
     out = {}
     for key in table:
         if key not in spec:
-            checker.problems.append(f"{name}.{key}: unknown key{_suggest(key, list(spec))}; "
+            checker.problems.append(f"{name}.{key}: unknown key{suggest(key, list(spec))}; "
                                     f"allowed: {', '.join(spec)}")
     for key, s in spec.items():
         if key in table:
@@ -525,7 +528,7 @@ def _receiver(checker, data, path):
 
 def parse_design(data: dict, path: Path | None = None) -> Design:
     """Validate a parsed TOML document and build the design (raises DesignError)."""
-    checker = _Checker()
+    checker = Checker()
     if not isinstance(data, dict):
         raise DesignError(["design: not a TOML table"])
     known = set(SCHEMA) | {"filaments"}
@@ -534,7 +537,7 @@ def parse_design(data: dict, path: Path | None = None) -> Design:
             checker.fail(key, data[key], f"a [{key}] table")
     for key in data:
         if key not in known:
-            checker.problems.append(f"{key}: unknown section{_suggest(key, sorted(known))}; "
+            checker.problems.append(f"{key}: unknown section{suggest(key, sorted(known))}; "
                                     f"allowed: {', '.join(sorted(known))}")
     head = _section(checker, data, "design", required=True)
     medium = _medium(checker, _section(checker, data, "medium"))
@@ -565,7 +568,7 @@ def parse_design(data: dict, path: Path | None = None) -> Design:
             checker.fail("filaments", f"{len(items)} filaments", f"at most {_MAX_FILAMENTS}")
         else:
             for i, item in enumerate(items):
-                sub = _Checker()
+                sub = Checker()
                 table = _section(sub, {"filament": item}, "filament")
                 checker.problems += [p.replace("filament", f"filaments[{i}]", 1)
                                      for p in sub.problems]
@@ -590,7 +593,7 @@ def parse_design(data: dict, path: Path | None = None) -> Design:
     formats = outputs.get("formats") or ()
     for fmt in formats:
         if fmt not in _OUTPUT_FORMATS:
-            checker.problems.append(f"outputs.formats: {fmt!r} is not allowed{_suggest(fmt, _OUTPUT_FORMATS)}; "
+            checker.problems.append(f"outputs.formats: {fmt!r} is not allowed{suggest(fmt, _OUTPUT_FORMATS)}; "
                                     f"allowed: {', '.join(_OUTPUT_FORMATS)}")
     receiver, band = _receiver(checker, data, path)
     steering = None
@@ -617,8 +620,8 @@ def parse_design(data: dict, path: Path | None = None) -> Design:
                   raw=data)
 
 
-def load_design(path) -> Design:
-    """Read and validate a TOML design file (raises DesignError with every problem)."""
+def read_toml(path) -> dict:
+    """Parse a TOML file; unreadable or invalid files raise DesignError (one line)."""
     path = Path(path)
     try:
         text = path.read_text(encoding="utf-8")
@@ -626,7 +629,11 @@ def load_design(path) -> Design:
         raise DesignError([f"{path}: cannot be read ({exc.strerror}); allowed: a readable "
                            "TOML file"]) from None
     try:
-        data = tomllib.loads(text)
+        return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise DesignError([f"{path}: not valid TOML ({exc})"]) from None
-    return parse_design(data, path)
+
+
+def load_design(path) -> Design:
+    """Read and validate a TOML design file (raises DesignError with every problem)."""
+    return parse_design(read_toml(path), Path(path))

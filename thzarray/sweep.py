@@ -34,7 +34,6 @@ import json
 import math
 import re
 import sys
-import tomllib
 import zipfile
 from contextlib import contextmanager, nullcontext
 from dataclasses import dataclass, field, replace
@@ -46,9 +45,9 @@ import numpy as np
 
 from . import __version__
 from .cone import cone_angle
-# _Checker and _suggest give sweep files the messages and did-you-mean of design files.
-from .design import (SCHEMA, Design, DesignError, Spec, _Checker, _suggest, load_design,
-                     parse_design)
+# Checker and suggest give sweep files the messages and did-you-mean of design files.
+from .design import (SCHEMA, Checker, Design, DesignError, Spec, load_design, parse_design,
+                     read_toml, suggest)
 from .farfield import far_field, spectral_energy
 from .output import atomic_path, check_writable
 from .report import write_netcdf
@@ -403,12 +402,12 @@ def _axis_spec(problems, key, design: Design):
         return None
     schema = _schema_of(section)
     if schema is None:
-        problems.append(f"vary.{key}: unknown section {section!r}{_suggest(section, sections)};"
+        problems.append(f"vary.{key}: unknown section {section!r}{suggest(section, sections)};"
                         f" allowed: {', '.join(sections)}")
         return None
     allowed = ", ".join(_sweepable(section)) or "none"
     if name not in schema:
-        problems.append(f"vary.{key}: unknown key {name!r}{_suggest(name, list(schema))}; "
+        problems.append(f"vary.{key}: unknown key {name!r}{suggest(name, list(schema))}; "
                         f"allowed: {allowed}")
         return None
     spec = schema[name]
@@ -461,7 +460,7 @@ def _axis_values(checker, key, value, spec):
 
 
 def _axis(problems, key, value, spec, design):
-    checker = _Checker()
+    checker = Checker()
     values = _axis_values(checker, key, value, spec)
     problems += checker.problems
     if values is None:
@@ -490,7 +489,7 @@ def _measures(problems, table):
     out = []
     for name, options in table.items():
         if name not in MEASURES:
-            problems.append(f"measures.{name}: unknown measure{_suggest(name, list(MEASURES))}; "
+            problems.append(f"measures.{name}: unknown measure{suggest(name, list(MEASURES))}; "
                             f"allowed: {', '.join(MEASURES)}")
             continue
         if not isinstance(options, dict):
@@ -502,8 +501,8 @@ def _measures(problems, table):
             if key not in specs:
                 known = ", ".join(specs) or "none"
                 problems.append(f"measures.{name}.{key}: unknown option"
-                                f"{_suggest(key, list(specs))}; allowed: {known}")
-        checker = _Checker()
+                                f"{suggest(key, list(specs))}; allowed: {known}")
+        checker = Checker()
         values = {}
         for key, spec in specs.items():
             if key in options:
@@ -551,7 +550,7 @@ def parse_sweep(data: dict, path: Path | None = None) -> Sweep:
         raise DesignError(["sweep: not a TOML table"])
     for key in data:
         if key not in _SECTIONS:
-            problems.append(f"{key}: unknown section{_suggest(key, _SECTIONS)}; allowed: "
+            problems.append(f"{key}: unknown section{suggest(key, _SECTIONS)}; allowed: "
                             f"{', '.join(_SECTIONS)}")
     head = data.get("sweep")
     if not isinstance(head, dict):
@@ -559,7 +558,7 @@ def parse_sweep(data: dict, path: Path | None = None) -> Sweep:
                                       "table with name and design"])
     for key in head:
         if key not in _SWEEP_KEYS:
-            problems.append(f"sweep.{key}: unknown key{_suggest(key, list(_SWEEP_KEYS))}; "
+            problems.append(f"sweep.{key}: unknown key{suggest(key, list(_SWEEP_KEYS))}; "
                             f"allowed: {', '.join(_SWEEP_KEYS)}")
     for key in ("name", "design"):
         if not isinstance(head.get(key), str) or not head.get(key, "").strip():
@@ -639,17 +638,7 @@ def _check_overlap(problems, keys):
 
 def load_sweep(path) -> Sweep:
     """Read and validate a TOML sweep file (raises DesignError with every problem)."""
-    path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise DesignError([f"{path}: cannot be read ({exc.strerror}); allowed: a readable "
-                           "TOML file"]) from None
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise DesignError([f"{path}: not valid TOML ({exc})"]) from None
-    return parse_sweep(data, path)
+    return parse_sweep(read_toml(path), Path(path))
 
 
 # --- running ------------------------------------------------------------------------------
