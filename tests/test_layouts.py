@@ -195,17 +195,17 @@ def test_array_factor_kernels_match_numpy_twins(rng):
     phi = rng.uniform(0, 2 * np.pi, 4)
     grid_c = L.array_factor(lay, freq[:, None, None], theta, phi, HUMID)
     grid_n = L.array_factor(lay, freq[:, None, None], theta, phi, HUMID, compiled=False)
-    assert_allclose(grid_c, grid_n, rtol=1e-11, atol=1e-11 * len(lay))
+    assert_allclose(grid_c, grid_n, rtol=1e-12, atol=1e-12 * len(lay))
     uneven = np.array([0.1e12, 0.13e12, 0.5e12])
     assert_allclose(L.array_factor(lay, uneven[:, None, None], theta, phi, HUMID),
                     L.array_factor(lay, uneven[:, None, None], theta, phi, HUMID, compiled=False),
-                    rtol=1e-11, atol=1e-11 * len(lay))
+                    rtol=1e-12, atol=1e-12 * len(lay))
     # Point mode (frequency varying with direction) equals the grid mode.
     fpts = freq[:, None, None] + 0 * theta
     assert_allclose(L.array_factor(lay, fpts, theta, phi, HUMID), grid_c, rtol=1e-11,
                     atol=1e-11 * len(lay))
     assert_allclose(L.array_factor(lay, fpts, theta, phi, HUMID, compiled=False), grid_c,
-                    rtol=1e-11, atol=1e-11 * len(lay))
+                    rtol=1e-12, atol=1e-12 * len(lay))
 
 
 layouts_strategy = st.builds(
