@@ -35,7 +35,7 @@ def cone_chart(lengths, freqs, angles, title, target_angle=None, target_lengths=
     target_lengths : ndarray, shape (F,), optional
         Lengths (m) that give the target at each frequency (NaN where unreachable).
     """
-    fig = Figure(figsize=(6.4, 4.2))
+    fig = Figure(figsize=(6.4, 4.2), layout="constrained")
     ax = fig.add_subplot()
     colours = _colours(len(freqs))
     for f, a, col in zip(freqs, angles, colours):
@@ -68,7 +68,7 @@ def sky_map(x_deg, y_deg, intensity, title, pol=None, label="energy density (J/(
     pol : (ndarray, ndarray), optional
         Polarization direction components (px, py), shape (M, N), drawn as short lines.
     """
-    fig = Figure(figsize=(5.6, 4.8))
+    fig = Figure(figsize=(5.6, 4.8), layout="constrained")
     ax = fig.add_subplot()
     mesh = ax.pcolormesh(x_deg, y_deg, intensity, cmap=_CMAP, shading="auto")
     fig.colorbar(mesh, ax=ax, label=label)
@@ -96,7 +96,7 @@ def cone_cuts(theta, freqs, values, title, label="energy density (J/(Hz sr))"):
 
     theta (rad) shape (T,), freqs (Hz) shape (F,), values shape (F, T).
     """
-    fig = Figure(figsize=(6.4, 4.0))
+    fig = Figure(figsize=(6.4, 4.0), layout="constrained")
     ax = fig.add_subplot()
     for f, v, col in zip(freqs, values, _colours(len(freqs))):
         ax.plot(np.degrees(theta), v, color=col, label=f"{f / 1e12:.3g} THz")
@@ -110,7 +110,7 @@ def cone_cuts(theta, freqs, values, title, label="energy density (J/(Hz sr))"):
 
 def line_chart(x, ys, labels, xlabel, ylabel, title, logy=False):
     """Generic chart of several curves sharing one x axis."""
-    fig = Figure(figsize=(6.4, 4.0))
+    fig = Figure(figsize=(6.4, 4.0), layout="constrained")
     ax = fig.add_subplot()
     for y, lab, col in zip(ys, labels, _colours(len(ys))):
         ax.plot(x, y, color=col, label=lab)
@@ -161,7 +161,7 @@ def plane_maps(x, y, maps, titles, title, label, unit_scale=1e3, unit="mm"):
 
 def bar_chart(labels, values, ylabel, title, logy=True):
     """Bars with their values written on top (e.g. single / incoherent / phased / ideal)."""
-    fig = Figure(figsize=(6.0, 4.0))
+    fig = Figure(figsize=(6.0, 4.0), layout="constrained")
     ax = fig.add_subplot()
     colours = _colours(len(values))
     bars = ax.bar(labels, values, color=colours)
@@ -178,7 +178,7 @@ def bar_chart(labels, values, ylabel, title, logy=True):
 
 def histogram(samples, xlabel, title, markers=()):
     """Histogram of Monte Carlo samples with labelled vertical markers (label, value)."""
-    fig = Figure(figsize=(6.0, 4.0))
+    fig = Figure(figsize=(6.0, 4.0), layout="constrained")
     ax = fig.add_subplot()
     ax.hist(samples, bins=40, color=_colours(1)[0], alpha=0.85)
     for (label, value), col in zip(markers, ("0.2", "tab:orange", "tab:red", "tab:green")):
