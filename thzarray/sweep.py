@@ -248,6 +248,29 @@ def measure_jittered_cut(design: Design, seed, timing_jitter):
     return _cut_dataset(design, sources, "jittered_")
 
 
+@register_measure("tolerance", seeded=True,
+                  doc="Monte Carlo of the design's [tolerance] errors on its steered layout")
+def measure_tolerance(design: Design, seed):
+    """Mean, spread and percentile of the delivered gain (:func:`thzarray.tolerance.tolerance`)
+    for the design's [steering] target and [tolerance] errors, with the task's seed."""
+    import xarray as xr
+
+    from .jobs import tolerance_study
+
+    if design.tolerance is None:
+        raise ValueError(f"design {design.name!r}: the tolerance measure needs a [tolerance] "
+                         "section; allowed: add it")
+    design = replace(design, tolerance=dict(design.tolerance, seed=int(seed)))
+    t, _ = tolerance_study(design)
+    return xr.Dataset({
+        "gain_mean": ((), t.mean, {"units": "1", "long_name": "mean delivered gain"}),
+        "gain_std": ((), t.std, {"units": "1"}),
+        "gain_percentile": ((), t.percentile_value,
+                            {"units": "1", "percentile": float(t.percentile)}),
+        "gain_expected": ((), t.expected, {"units": "1", "long_name": "exact random-phase mean"}),
+    })
+
+
 # --- sweep files --------------------------------------------------------------------------
 
 @dataclass(frozen=True, eq=False)
