@@ -6,8 +6,9 @@ from numpy.testing import assert_allclose
 from scipy.constants import c, epsilon_0
 
 from thzarray import Filament, Medium
+from thzarray.tables import read_response, response_detector
 from thzarray.detectors import (BroadbandDetector, NarrowbandReceiver, detected_energy,
-                                load_response_csv, passband_weights, received_energy,
+                                passband_weights, received_energy,
                                 surface_degree_of_radial_polarization, surface_polarization)
 from thzarray.nearfield import field_at
 from thzarray.surfaces import plane_scan
@@ -106,17 +107,17 @@ def test_gaussian_receiver_two_lobes():
 
 
 def test_response_csv_loader():
-    f, r = load_response_csv(DATA / "detector_response_invented.csv")
+    f, r = read_response(DATA / "detector_response_invented.csv")
     assert_allclose(f, [0.05e12, 0.1e12, 0.3e12, 0.6e12, 1.0e12, 2.0e12])
     assert_allclose(r, [0.0, 0.4, 0.9, 1.0, 0.7, 0.0])
     with pytest.raises(ValueError, match="header"):
-        load_response_csv(DATA / "detector_response_bad_header.csv")
+        read_response(DATA / "detector_response_bad_header.csv")
 
 
 def test_broadband_detector_on_plane_wave():
     """Polarization-blind: W = A 2 eps0 c |E_perp|^2 int R df; the trapezoid on the response's
     own nodes integrates its piecewise-linear curve exactly (calculus)."""
-    det = BroadbandDetector.from_csv(DATA / "detector_response_invented.csv", area=1e-4,
+    det = response_detector(DATA / "detector_response_invented.csv", area=1e-4,
                                      normal=(0.0, 0.0, 1.0))
     freq = np.array([0.05e12, 0.1e12, 0.3e12, 0.6e12, 1.0e12, 2.0e12])
     e0 = np.array([1.0, 2.0j, 5.0])  # the z part is along the normal: not absorbed

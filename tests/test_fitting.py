@@ -11,8 +11,9 @@ from scipy.special import erf
 from scipy.stats import binom, chi2
 
 from thzarray import Filament, Medium, cone_angle, far_field
-from thzarray.fitting import (UNITS, fit_command_result, fit_delay_scan, fit_scan,
-                              parse_scan_csv, read_scan_csv)
+from thzarray.tables import fit_command_result, read_scan as read_scan_csv
+from thzarray.fitting import (UNITS, fit_delay_scan, fit_scan, fit_summary,
+                              parse_scan_csv)
 from thzarray.nearfield import field_at
 from thzarray.units import parse_quantity
 
@@ -309,7 +310,8 @@ def test_read_scan_csv(tmp_path):
     assert meta == {"freq": pytest.approx(3e11, rel=1e-15), "distance": pytest.approx(1.5),
                     "operator": "someone"}
     # Without a unit reader the core keeps unit strings as text; plain numbers are SI.
-    assert read_scan_csv(path)[3]["freq"] == "0.3 THz"
+    assert parse_scan_csv(path.read_text())[3]["freq"] == "0.3 THz"
+    assert read_scan_csv(path)[3]["freq"] == pytest.approx(3e11)  # files: units read
     text = GOOD.format(rows=rows()).replace("0.3 THz", "3e11")
     assert parse_scan_csv(text)[3]["freq"] == 3e11
     angle_mrad, *_ = parse_scan_csv("angle_mrad,signal\n" + rows().replace(", 0.01", ""))
@@ -365,8 +367,9 @@ def test_fit_command_result(tmp_path):
     assert again["params"] == pytest.approx(out["params"], rel=1e-12)
     assert fit_command_result(path, freq=3e11)["params"] == pytest.approx(out["params"],
                                                                           rel=1e-12)
+    assert fit_command_result(path)["params"] == pytest.approx(out["params"], rel=1e-12)
     with pytest.raises(ValueError, match="'0.3 THz' is a unit string; allowed: an SI number"):
-        fit_command_result(path)
+        fit_summary(parse_scan_csv(path.read_text()), str(path))
     bare = tmp_path / "bare.csv"
     bare.write_text("angle_deg,signal\n" + rows(8).replace(", 0.01", ""), encoding="utf-8")
     with pytest.raises(ValueError, match="freq: not given"):

@@ -5,7 +5,7 @@ import sys
 from pathlib import Path
 
 PKG = Path(__file__).resolve().parents[1] / "thzarray"
-EDGE = {"cli", "design", "jobs", "report", "output", "units", "plots", "sweep"}
+EDGE = {"cli", "design", "jobs", "report", "output", "units", "plots", "sweep", "tables"}
 FORBIDDEN_IN_CORE = {"matplotlib", "plotly", "argparse", "tqdm", "xarray", "h5netcdf", "pint",
                      "tomllib"}
 

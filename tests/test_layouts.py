@@ -10,6 +10,7 @@ from scipy.constants import c
 from thzarray import Filament, Medium, far_field
 from thzarray import _array_kernels as ak
 from thzarray import layouts as L
+from thzarray.tables import read_layout, write_layout
 
 HUMID = Medium.air(relative_humidity=0.5)
 
@@ -138,19 +139,19 @@ def test_csv_round_trip_is_exact(tmp_path):
     assert text.splitlines()[0] == "x_m,y_m,z_m,axis_x,axis_y,axis_z,length_m,delay_s,weight"
     assert L.layout_from_csv(text) == lay
     path = tmp_path / "layout.csv"
-    L.write_csv(path, lay)
-    assert L.read_csv(path) == lay
+    write_layout(path, lay)
+    assert read_layout(path) == lay
     assert sorted(os.listdir(tmp_path)) == ["layout.csv"]  # no temporary file left
 
 
-def test_write_csv_refuses_to_overwrite(tmp_path):
+def test_write_layout_refuses_to_overwrite(tmp_path):
     path = tmp_path / "layout.csv"
-    L.write_csv(path, L.line(2, 1e-3, 0.02))
-    with pytest.raises(FileExistsError):
-        L.write_csv(path, L.line(3, 1e-3, 0.02))
-    assert len(L.read_csv(path)) == 2
-    L.write_csv(path, L.line(3, 1e-3, 0.02), overwrite=True)
-    assert len(L.read_csv(path)) == 3
+    write_layout(path, L.line(2, 1e-3, 0.02))
+    with pytest.raises(ValueError, match="--force"):
+        write_layout(path, L.line(3, 1e-3, 0.02))
+    assert len(read_layout(path)) == 2
+    write_layout(path, L.line(3, 1e-3, 0.02), force=True)
+    assert len(read_layout(path)) == 3
     assert sorted(os.listdir(tmp_path)) == ["layout.csv"]
 
 

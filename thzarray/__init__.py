@@ -44,7 +44,7 @@ from .surfaces import (FarFieldDeparture, Surface, far_field_departure, line_sca
 from .atmosphere import (Air, attenuate, attenuation_coefficient, oxygen_attenuation,
                          water_vapour_attenuation)
 from .detectors import (BroadbandDetector, NarrowbandReceiver, detected_energy,
-                        load_response_csv, received_energy, surface_degree_of_radial_polarization,
+                        received_energy, surface_degree_of_radial_polarization,
                         surface_polarization)
 from .budget import RangeBudget, range_budget
 from . import layouts
@@ -57,7 +57,7 @@ from .tolerance import ToleranceResult, tolerance
 from .maps import FrequencyMap, SkyMap, frequency_map, sky_map
 from .laser import (FocusingChart, PlasmaEstimate, collapse_distance, critical_power,
                     focusing_chart, focusing_for_cone, plasma_from_laser)
-from .fitting import FitResult, fit_delay_scan, fit_scan, read_scan_csv
+from .fitting import FitResult, fit_delay_scan, fit_scan, parse_scan_csv
 
 __version__ = "0.1.0"
 
@@ -72,7 +72,7 @@ __all__ = [
     "focusing_chart",
     "focusing_for_cone",
     "plasma_from_laser",
-    "read_scan_csv",
+    "parse_scan_csv",
     "ArrayGain",
     "ConeLevel",
     "ConeNullWarning",
@@ -116,7 +116,6 @@ __all__ = [
     "field_at",
     "fields_at",
     "line_scan",
-    "load_response_csv",
     "magnetic_field_at",
     "oxygen_attenuation",
     "plane_scan",

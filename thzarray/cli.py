@@ -645,7 +645,7 @@ def _jobs_for(design):
 
 
 def cmd_fit(args):
-    from .fitting import fit_command_result
+    from .tables import fit_command_result
     from .plots import interactive, static
     from .units import parse_quantity
 

@@ -441,7 +441,9 @@ def _layout(checker, lay, path, raw):
         csv = Path(lay["csv"])
         if not csv.is_absolute() and path is not None:
             csv = Path(path).parent / csv
-        return _build(checker, "layout.csv", layouts.read_csv, csv)
+        from .tables import read_layout
+
+        return _build(checker, "layout.csv", read_layout, csv)
     if kind == "grid" and len(lay["shape"]) != 2:
         checker.fail("layout.shape", list(lay["shape"]), "[nx, ny]")
         return None
@@ -500,7 +502,8 @@ def _receiver(checker, data, path):
                                 "allowed; allowed: less than twice center_freq")
         return None, None
     band = np.linspace(lo, hi, r["band_points"] or 11)
-    from .detectors import BroadbandDetector, NarrowbandReceiver
+    from .detectors import NarrowbandReceiver
+    from .tables import response_detector
 
     if r["kind"] == "broadband":
         if r["response_csv"] is None:
@@ -514,7 +517,7 @@ def _receiver(checker, data, path):
         csv = Path(r["response_csv"])
         if not csv.is_absolute() and path is not None:
             csv = Path(path).parent / csv
-        return _build(checker, "receiver.response_csv", BroadbandDetector.from_csv, csv,
+        return _build(checker, "receiver.response_csv", response_detector, csv,
                       area=r["area"]), band
     if (r["area"] is None) == (r["beam_waist"] is None):
         checker.problems.append("receiver: give exactly one of area and beam_waist; allowed: "

@@ -18,7 +18,7 @@ frequency of a field whose wave arrives near the detector's normal is
   :math:`(\int u\,dA)^2 = 2\pi w_0^2`.
 - :class:`BroadbandDetector` (bolometer, pyroelectric, Golay cell): polarization-blind,
   area A facing ``normal``, spectral response R(f) read from a CSV file by
-  :func:`load_response_csv`,
+  :func:`parse_response_csv`,
   :math:`W = A\int R(f)\,2n_T\varepsilon_0 c\,|\mathbf E - (\hat n\cdot\mathbf E)\hat n|^2 df`.
 - Polarization analysis on a surface (:func:`surface_polarization`), reusing
   :mod:`thzarray.polarization`: Stokes parameters in the local (radial, azimuthal) basis
@@ -46,7 +46,7 @@ __all__ = [
     "BroadbandDetector",
     "NarrowbandReceiver",
     "detected_energy",
-    "load_response_csv",
+    "parse_response_csv",
     "passband_weights",
     "received_energy",
     "surface_degree_of_radial_polarization",
@@ -214,24 +214,26 @@ def received_energy(receiver: NarrowbandReceiver, freq, field_, medium: Medium |
     return scale * np.tensordot(wts, np.abs(overlap) ** 2, axes=1)
 
 
-def load_response_csv(path):
-    """Read a detector's spectral response from a CSV file.
+def parse_response_csv(text: str, path="response"):
+    """Parse a detector's spectral response from CSV text.
 
-    The file has a header line naming the columns ``freq_hz,response`` (lines starting with
+    The text has a header line naming the columns ``freq_hz,response`` (lines starting with
     ``#`` are comments), then rows of frequency (Hz, strictly increasing, > 0) and
-    response (dimensionless, >= 0).
+    response (dimensionless, >= 0). Reading the file is :func:`thzarray.tables.read_response`.
 
     Parameters
     ----------
-    path : str or path-like
+    text : str
+    path : str
+        Where the text came from, for messages.
 
     Returns
     -------
     (ndarray, ndarray)
         Frequencies (Hz) and response values, shape (K,) each.
     """
-    with open(path, encoding="utf-8") as handle:
-        lines = [ln.strip() for ln in handle if ln.strip() and not ln.lstrip().startswith("#")]
+    lines = [ln.strip() for ln in text.splitlines()
+             if ln.strip() and not ln.lstrip().startswith("#")]
     if not lines:
         raise ValueError(f"path = {str(path)!r} has no data; allowed: a header freq_hz,response "
                          "and at least two rows")
@@ -283,12 +285,6 @@ class BroadbandDetector:
         set_(self, "response", r)
         set_(self, "area", check_scalar("area", self.area, low=0.0, low_open=True, unit="m^2"))
         set_(self, "normal", _unit("normal", self.normal))
-
-    @classmethod
-    def from_csv(cls, path, area: float, normal=(0.0, 0.0, 1.0)) -> "BroadbandDetector":
-        """A detector whose response is read by :func:`load_response_csv`."""
-        f, r = load_response_csv(path)
-        return cls(f, r, area, normal)
 
     def response_at(self, freq):
         """Response interpolated linearly at ``freq`` (Hz), zero outside the samples."""

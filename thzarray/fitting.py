@@ -64,7 +64,7 @@ False`` and a message saying what to fix; ``strict=True`` raises ``ValueError`` 
 same message instead. Pairs correlated beyond +-0.999 get a note (not a flag): the linearised
 errors of such a valley may understate the range of values the data allow.
 
-Reading scans (:func:`read_scan_csv`)
+Reading scans (:func:`parse_scan_csv`; files: :func:`thzarray.tables.read_scan`)
 -------------------------------------
 Comma-separated text: ``#`` lines are comments, ``# key = value`` lines (before the header)
 metadata: ``# freq = 0.3 THz`` and ``# distance = 1.5 m`` become SI floats through a
@@ -94,11 +94,10 @@ from .medium import Medium
 __all__ = [
     "FitResult",
     "UNITS",
-    "fit_command_result",
+    "fit_summary",
     "fit_delay_scan",
     "fit_scan",
     "parse_scan_csv",
-    "read_scan_csv",
 ]
 
 UNITS = {"length": "m", "start": "m", "mismatch": "1", "amplitude": "signal",
@@ -686,7 +685,37 @@ def _metadata_value(key, text, where, to_si):
 
 
 def parse_scan_csv(text: str, source: str = "scan", to_si=None):
-    """Parse an angular scan from CSV text; see :func:`read_scan_csv`."""
+    """Parse an angular scan from CSV text.
+
+    Parameters
+    ----------
+    text : str
+        The CSV (format in the module docstring).
+    source : str
+        Where the text came from, for messages.
+    to_si : callable, optional
+        ``to_si(text, kind) -> float`` reading a unit string (``kind`` "frequency" for
+        ``freq``, "length" for ``distance``), e.g. :func:`thzarray.units.parse_quantity`;
+        raises ``ValueError`` for bad text. Without it those values are floats only when
+        written as plain SI numbers.
+
+    Returns
+    -------
+    angle : ndarray, shape (N,)
+        Detector angle from the filament axis (rad).
+    signal : ndarray, shape (N,)
+    sigma : ndarray, shape (N,), or None
+        The uncertainty column when present.
+    metadata : dict
+        ``# key = value`` lines: ``freq`` (Hz) and ``distance`` (m) as SI floats (see
+        ``to_si``), other keys as text.
+
+    Raises
+    ------
+    ValueError
+        Naming the row (and line) and column of a malformed cell, a missing or unknown
+        column, an angle outside 0 to 180 degrees, a non-positive sigma, or fewer than 6 rows.
+    """
     metadata, header, rows = {}, None, []
     for line_no, raw in enumerate(text.splitlines(), start=1):
         line = raw.strip()
@@ -762,40 +791,6 @@ def _columns(header, source, line_no):
     return columns
 
 
-def read_scan_csv(path, to_si=None):
-    """Read an angular scan from a CSV file.
-
-    Parameters
-    ----------
-    path : str or os.PathLike
-        The file (format in the module docstring).
-    to_si : callable, optional
-        ``to_si(text, kind) -> float`` reading a unit string (``kind`` "frequency" for
-        ``freq``, "length" for ``distance``), e.g. :func:`thzarray.units.parse_quantity`;
-        raises ``ValueError`` for bad text. Without it those values are floats only when
-        written as plain SI numbers.
-
-    Returns
-    -------
-    angle : ndarray, shape (N,)
-        Detector angle from the filament axis (rad).
-    signal : ndarray, shape (N,)
-    sigma : ndarray, shape (N,), or None
-        The uncertainty column when present.
-    metadata : dict
-        ``# key = value`` lines: ``freq`` (Hz) and ``distance`` (m) as SI floats (see
-        ``to_si``), other keys as text.
-
-    Raises
-    ------
-    ValueError
-        Naming the row (and file line) and column of a malformed cell, a missing or unknown
-        column, an angle outside 0 to 180 degrees, a non-positive sigma, or fewer than 6 rows.
-    """
-    with open(path, encoding="utf-8") as fh:
-        return parse_scan_csv(fh.read(), source=str(path), to_si=to_si)
-
-
 # --- the command line's entry point -----------------------------------------------------
 
 def _si(name, value, to_si, where):
@@ -816,14 +811,17 @@ def _json_number(value):
     return value if np.isfinite(value) else None
 
 
-def fit_command_result(path, freq=None, distance=None, *, fixed=None, polarization=None,
-                       to_si=None) -> dict:
-    """Fit a scan file and return a JSON-ready dict (for ``thzarray fit``).
+def fit_summary(scan, path="scan", freq=None, distance=None, *, fixed=None,
+                polarization=None, to_si=None) -> dict:
+    """Fit a parsed scan and return a JSON-ready dict (for ``thzarray fit``).
 
     Parameters
     ----------
-    path : str or os.PathLike
-        CSV scan (see :func:`read_scan_csv`).
+    scan : tuple
+        ``(angle, signal, sigma, metadata)`` as returned by :func:`parse_scan_csv` (the file
+        is read by :func:`thzarray.tables.read_scan`).
+    path : str
+        Where the scan came from, for messages and the result's ``file``.
     freq : float or str, optional
         Frequency (Hz, or a string such as ``"0.3 THz"`` read by ``to_si``); the file's
         ``# freq = ...`` line when omitted.
@@ -835,7 +833,7 @@ def fit_command_result(path, freq=None, distance=None, *, fixed=None, polarizati
     polarization : 3-sequence of float, optional
         As for :func:`fit_scan`.
     to_si : callable, optional
-        Reader of unit strings, as for :func:`read_scan_csv`; the command line passes
+        Reader of unit strings, as for :func:`parse_scan_csv`; the command line passes
         :func:`thzarray.units.parse_quantity`.
 
     Returns
@@ -847,7 +845,7 @@ def fit_command_result(path, freq=None, distance=None, *, fixed=None, polarizati
         ``residuals`` (``angle_rad``, ``signal``, ``model``, ``residual``); non-finite
         numbers become None.
     """
-    angle, signal, sigma, metadata = read_scan_csv(path, to_si)
+    angle, signal, sigma, metadata = scan
     freq = _si("freq", metadata.get("freq") if freq is None else freq, to_si, str(path))
     if freq is None:
         raise ValueError(f"freq: not given and {path} has no '# freq = ...' line; allowed: a "

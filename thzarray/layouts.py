@@ -24,14 +24,11 @@ Layout tables
 -------------
 :func:`layout_to_csv` / :func:`layout_from_csv` turn a layout into text and back (columns
 ``x_m, y_m, z_m, axis_x, axis_y, axis_z, length_m, delay_s, weight``; floats written with
-``repr`` so a round trip is exact). :func:`write_csv` and :func:`read_csv` are the only
+``repr`` so a round trip is exact). Reading and writing the files is :mod:`thzarray.tables` (the edge layer); here are the only
 functions here that touch files.
 """
 
 from __future__ import annotations
-
-import os
-import tempfile
 
 import numpy as np
 
@@ -57,11 +54,9 @@ __all__ = [
     "layout_to_csv",
     "line",
     "random_aperture",
-    "read_csv",
     "ring",
     "staggered",
     "with_delays",
-    "write_csv",
 ]
 
 CSV_COLUMNS = ("x_m", "y_m", "z_m", "axis_x", "axis_y", "axis_z", "length_m", "delay_s",
@@ -557,48 +552,3 @@ def layout_from_csv(text: str) -> tuple:
     _check_separation(np.array([f.start for f in fils]))
     return tuple(fils)
 
-
-def write_csv(path, layout, *, overwrite: bool = False) -> None:
-    """Write a layout table atomically (temporary file in the same folder, then rename).
-
-    Parameters
-    ----------
-    path : str or os.PathLike
-    layout : sequence of Filament
-    overwrite : bool
-        Replace an existing file; otherwise an existing file raises ``FileExistsError``.
-    """
-    text = layout_to_csv(layout)
-    path = os.fspath(path)
-    folder = os.path.dirname(os.path.abspath(path))
-    fd, tmp = tempfile.mkstemp(prefix=".layout-", suffix=".tmp", dir=folder)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
-            fh.write(text)
-            fh.flush()
-            os.fsync(fh.fileno())
-        if overwrite:
-            os.replace(tmp, path)
-        else:
-            _link_new(tmp, path)
-    finally:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-
-
-def _link_new(tmp, path):
-    """Give ``tmp`` the name ``path`` unless ``path`` exists (FileExistsError)."""
-    try:
-        os.link(tmp, path)  # atomic: fails when path exists
-    except FileExistsError:
-        raise FileExistsError(f"{path} exists; pass overwrite=True to replace it") from None
-    except OSError:  # a file system without hard links
-        if os.path.exists(path):
-            raise FileExistsError(f"{path} exists; pass overwrite=True to replace it") from None
-        os.replace(tmp, path)
-
-
-def read_csv(path) -> tuple:
-    """Read a layout table written by :func:`write_csv`."""
-    with open(os.fspath(path), encoding="utf-8") as fh:
-        return layout_from_csv(fh.read())
