@@ -83,33 +83,9 @@ def test_broken_page_is_detected(tmp_path):
     assert 'class="main-svg"' not in dom
 
 
-def test_array_figures_render(tmp_path):
+def test_array_figures_render(tmp_path, array_design):
     # The steered-lobe page (delay-scale slider), the gain bars and the tolerance histogram.
-    design = tmp_path / "arr.toml"
-    design.write_text("""
-[design]
-name = "browser array"
-[medium]
-relative_humidity = "40 %"
-[layout]
-kind = "line"
-count = 3
-spacing = "2 mm"
-length = "2 cm"
-[steering]
-toward = ["12 deg", "0 deg"]
-band = ["0.2 THz", "0.4 THz"]
-band_points = 3
-[tolerance]
-timing_jitter = "0.1 ps"
-shots = 50
-[observe]
-freq = ["0.3 THz"]
-theta = { start = "0 deg", stop = "20 deg", points = 11 }
-phi = { start = "0 deg", stop = "360 deg", points = 5 }
-[outputs]
-formats = ["html"]
-""")
+    design = array_design("browser array", formats=("html",))
     out = tmp_path / "out"
     for command in ("steer", "compare", "tolerance"):
         assert main([command, str(design), "--out", str(out), "--quiet"]) == 0

@@ -181,20 +181,7 @@ JSON_KEYS = {
 }
 
 
-def _small_array_design(tmp_path):
-    path = tmp_path / "arr.toml"
-    path.write_text(BASE.replace('[filament]\nlength = "10 cm"', """[layout]
-kind = "line"
-count = 3
-spacing = "2 mm"
-length = "2 cm"
-[steering]
-toward = ["12 deg", "0 deg"]
-band = ["0.2 THz", "0.4 THz"]
-band_points = 3
-[tolerance]
-timing_jitter = "0.1 ps"
-shots = 50
+RECEIVER = """
 [receiver]
 center_freq = "0.3 THz"
 bandwidth = "20 GHz"
@@ -207,14 +194,12 @@ y = { start = "-3 cm", stop = "3 cm", points = 5 }
 [budget]
 distances = { start = "1 m", stop = "5 m", points = 3 }
 relative_humidity = ["20 %", "60 %"]
-[outputs]
-formats = ["csv"]"""))
-    return path
+"""
 
 
 @pytest.mark.parametrize("command", sorted(JSON_KEYS))
-def test_json_schema_stable(command, tmp_path, capsys):
-    path = _small_array_design(tmp_path)
+def test_json_schema_stable(command, tmp_path, capsys, array_design):
+    path = array_design(extra=RECEIVER)
     args = [command, str(path), "--json", "--out", str(tmp_path / "o")]
     if command == "check":
         args = args[:3]
@@ -223,8 +208,8 @@ def test_json_schema_stable(command, tmp_path, capsys):
     assert set(data) == JSON_KEYS[command]
 
 
-def test_force_semantics(tmp_path, capsys):
-    path = _small_array_design(tmp_path)
+def test_force_semantics(tmp_path, capsys, array_design):
+    path = array_design(extra=RECEIVER)
     out = tmp_path / "o"
     assert main(["steer", str(path), "--out", str(out), "--quiet"]) == 0
     files = sorted(out.iterdir())

@@ -7,38 +7,14 @@ from thzarray import jobs
 from thzarray.design import load_design
 from thzarray.sweep import parse_sweep, run_serial
 
-DESIGN = """
-[design]
-name = "sweep tolerance"
-[medium]
-relative_humidity = "40 %"
-[layout]
-kind = "line"
-count = 4
-spacing = "2 mm"
-length = "2 cm"
-[steering]
-toward = ["12 deg", "0 deg"]
-band = ["0.2 THz", "0.4 THz"]
-band_points = 3
-[tolerance]
-timing_jitter = "0.2 ps"
-shots = 100
-[observe]
-freq = ["0.3 THz"]
-theta = { start = "0 deg", stop = "20 deg", points = 11 }
-phi = { start = "0 deg", stop = "360 deg", points = 5 }
-"""
-
-
-def test_tolerance_measure_equals_direct_monte_carlo(tmp_path):
-    (tmp_path / "d.toml").write_text(DESIGN)
-    sweep = parse_sweep({"sweep": {"name": "tol", "design": "d.toml", "seeds": 2},
+def test_tolerance_measure_equals_direct_monte_carlo(tmp_path, array_design):
+    path = array_design("d")
+    sweep = parse_sweep({"sweep": {"name": "tol", "design": path.name, "seeds": 2},
                          "measures": {"tolerance": {}},
                          "vary": {"tolerance.timing_jitter": ["0.1 ps", "0.3 ps"]}},
                         tmp_path / "s.toml")
     ds = run_serial(sweep, tmp_path / "out", progress=False).dataset
-    base = load_design(tmp_path / "d.toml")
+    base = load_design(path)
     for i, jitter in enumerate([0.1e-12, 0.3e-12]):
         for seed in (0, 1):
             d = replace(base, tolerance=dict(base.tolerance, timing_jitter=jitter, seed=seed))

@@ -53,6 +53,19 @@ def _medium_flags(p):
     g.add_argument("--laser-wavelength", default="800 nm", help="laser wavelength, e.g. '800 nm'")
 
 
+def _command(sub, name, help_text, examples, func, positional=None, note=""):
+    """A subcommand with its examples, the safety line and the common flags."""
+    epilog = ("examples:\n" if len(examples) > 1 else "example:\n") + "".join(
+        f"  {e}\n" for e in examples) + (f"\n{note}\n" if note else "") + "\n" + SAFETY_SHORT
+    p = sub.add_parser(name, help=help_text, epilog=epilog,
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    if positional is not None:
+        p.add_argument(positional[0], type=Path, help=positional[1])
+    _common(p)
+    p.set_defaults(func=func)
+    return p
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = _Parser(prog="thzarray",
                      description="THz emission from femtosecond-laser plasma filaments in air, "
@@ -60,107 +73,68 @@ def build_parser() -> argparse.ArgumentParser:
                      epilog=SAFETY, formatter_class=argparse.RawDescriptionHelpFormatter)
     parser.add_argument("--version", action="version", version="thzarray 0.1.0")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    design = ("design", "design file (TOML; reference: designs/README.md)")
 
     p = sub.add_parser("safety", help="print the laser-safety cautions")
     p.set_defaults(func=cmd_safety)
 
-    p = sub.add_parser("cone", help="cone angle for a plasma length, or the length for an angle",
-                       formatter_class=argparse.RawDescriptionHelpFormatter,
-                       epilog="examples:\n"
-                              "  thzarray cone --length '30 cm' --freq '0.3 THz' --humidity '50 %'\n"
-                              "  thzarray cone --angle '3 deg' --freq '0.5 THz' --humidity '50 %'\n"
-                              + "\n" + SAFETY_SHORT)
+    p = _command(sub, "cone", "cone angle for a plasma length, or the length for an angle",
+                 ["thzarray cone --length '30 cm' --freq '0.3 THz' --humidity '50 %'",
+                  "thzarray cone --angle '3 deg' --freq '0.5 THz' --humidity '50 %'"], cmd_cone)
     what = p.add_mutually_exclusive_group(required=True)
     what.add_argument("--length", help="plasma length, e.g. '30 cm'")
     what.add_argument("--angle", help="wanted cone angle, e.g. '3 deg'")
     p.add_argument("--freq", required=True, help="frequency, e.g. '0.3 THz'")
     _medium_flags(p)
-    _common(p)
-    p.set_defaults(func=cmd_cone)
 
-    p = sub.add_parser("check", help="validate a design file (every problem, one line each)",
-                       epilog="example:\n  thzarray check designs/single_filament.toml",
-                       formatter_class=argparse.RawDescriptionHelpFormatter)
-    p.add_argument("design", type=Path)
-    _common(p)
-    p.set_defaults(func=cmd_check)
+    _command(sub, "check", "validate a design file (every problem, one line each)",
+             ["thzarray check designs/single_filament.toml"], cmd_check, design)
+    _command(sub, "pattern", "far-field sky maps, cuts through the cone, cone chart",
+             ["thzarray pattern designs/single_filament.toml --out results"], cmd_pattern, design)
+    _command(sub, "map", "what the receiver records on a detector plane (exact near field) "
+                         "beside the far-field prediction",
+             ["thzarray map designs/lab_receiver.toml --out results"], cmd_map, design)
+    _command(sub, "budget", "energy into the receiver versus range and humidity",
+             ["thzarray budget designs/lab_receiver.toml --json"], cmd_budget, design)
 
-    p = sub.add_parser("pattern", help="far-field sky maps, cuts through the cone, cone chart",
-                       epilog="example:\n  thzarray pattern designs/single_filament.toml "
-                              "--out results\n\n" + SAFETY_SHORT,
-                       formatter_class=argparse.RawDescriptionHelpFormatter)
-    p.add_argument("design", type=Path)
-    _common(p)
-    p.set_defaults(func=cmd_pattern)
-
-    p = sub.add_parser("map", help="what the receiver records on a detector plane (exact near "
-                                   "field) beside the far-field prediction",
-                       epilog="example:\n  thzarray map designs/lab_receiver.toml --out results\n\n"
-                              + SAFETY_SHORT, formatter_class=argparse.RawDescriptionHelpFormatter)
-    p.add_argument("design", type=Path)
-    _common(p)
-    p.set_defaults(func=cmd_map)
-
-    p = sub.add_parser("budget", help="energy into the receiver versus range and humidity",
-                       epilog="example:\n  thzarray budget designs/lab_receiver.toml --json\n\n"
-                              + SAFETY_SHORT, formatter_class=argparse.RawDescriptionHelpFormatter)
-    p.add_argument("design", type=Path)
-    _common(p)
-    p.set_defaults(func=cmd_budget)
-
-    p = sub.add_parser("steer", help="delays that steer a layout toward a target, with the lobe "
-                                     "report and maps",
-                       epilog="examples:\n  thzarray steer designs/grid_steering.toml\n"
-                              "  thzarray steer designs/grid_steering.toml --toward '9 deg,0 deg' "
-                              "--write steered.toml\n\n" + SAFETY_SHORT,
-                       formatter_class=argparse.RawDescriptionHelpFormatter)
-    p.add_argument("design", type=Path)
-    p.add_argument("--toward", help="target direction THETA,PHI, e.g. '9 deg,0 deg' "
-                                    "(default: the design's [steering].toward)")
+    toward = ("target direction THETA,PHI, e.g. '9 deg,0 deg' (default: the design's "
+              "[steering].toward)")
+    p = _command(sub, "steer", "delays that steer a layout toward a target, with the lobe "
+                               "report and maps",
+                 ["thzarray steer designs/grid_steering.toml",
+                  "thzarray steer designs/grid_steering.toml --toward '9 deg,0 deg' "
+                  "--write steered.toml"], cmd_steer, design)
+    p.add_argument("--toward", help=toward)
     p.add_argument("--write", type=Path, help="also write a new design file with these delays")
-    _common(p)
-    p.set_defaults(func=cmd_steer)
 
-    p = sub.add_parser("compare", help="single, incoherent, phased and ideal N^2 energies",
-                       epilog="example:\n  thzarray compare designs/grid_steering.toml --json\n\n"
-                              + SAFETY_SHORT, formatter_class=argparse.RawDescriptionHelpFormatter)
-    p.add_argument("design", type=Path)
-    p.add_argument("--toward", help="target direction THETA,PHI (default: the design's)")
+    p = _command(sub, "compare", "single, incoherent, phased and ideal N^2 energies",
+                 ["thzarray compare designs/grid_steering.toml --json"], cmd_compare, design)
+    p.add_argument("--toward", help=toward)
     p.add_argument("--shots", type=int, default=400, help="Monte Carlo draws (default 400)")
     p.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
-    _common(p)
-    p.set_defaults(func=cmd_compare)
 
-    p = sub.add_parser("tolerance", help="Monte Carlo of timing jitter and placement errors",
-                       epilog="example:\n  thzarray tolerance designs/grid_steering.toml\n\n"
-                              + SAFETY_SHORT, formatter_class=argparse.RawDescriptionHelpFormatter)
-    p.add_argument("design", type=Path)
-    p.add_argument("--toward", help="target direction THETA,PHI (default: the design's)")
-    _common(p)
-    p.set_defaults(func=cmd_tolerance)
+    p = _command(sub, "tolerance", "Monte Carlo of timing jitter and placement errors",
+                 ["thzarray tolerance designs/grid_steering.toml"], cmd_tolerance, design)
+    p.add_argument("--toward", help=toward)
 
-    p = sub.add_parser("fit", help="fit a measured angular scan: effective length, mismatch, "
-                                   "amplitude, background",
-                       epilog="examples:\n  thzarray fit designs/scan_synthetic.csv\n"
-                              "  thzarray fit scan.csv --freq '0.3 THz' --distance '1.5 m' --json\n"
-                              "  thzarray fit scan.csv --fix background=0\n\n"
-                              "CSV: columns angle_deg (or angle_rad), signal, optional sigma; "
-                              "metadata lines '# freq = 0.3 THz', '# distance = 1.5 m'.\n\n"
-                              + SAFETY_SHORT, formatter_class=argparse.RawDescriptionHelpFormatter)
-    p.add_argument("data", type=Path, help="scan CSV file")
+    p = _command(sub, "fit", "fit a measured angular scan: effective length, mismatch, "
+                             "amplitude, background",
+                 ["thzarray fit designs/scan_synthetic.csv",
+                  "thzarray fit scan.csv --freq '0.3 THz' --distance '1.5 m' --json",
+                  "thzarray fit scan.csv --fix background=0"], cmd_fit,
+                 ("data", "scan CSV file"),
+                 note="CSV: columns angle_deg (or angle_rad), signal, optional sigma; metadata "
+                      "lines '# freq = 0.3 THz', '# distance = 1.5 m'.")
     p.add_argument("--freq", help="frequency, e.g. '0.3 THz' (default: the file's '# freq')")
     p.add_argument("--distance", help="detector distance for a finite-distance fit, e.g. "
                                       "'1.5 m' (default: the file's '# distance', else far field)")
     p.add_argument("--fix", action="append", default=[], metavar="NAME=VALUE",
                    help="hold a parameter fixed (SI), e.g. background=0; repeatable")
-    _common(p)
-    p.set_defaults(func=cmd_fit)
 
-    p = sub.add_parser("focus", help="pick lens and pulse energy for a target cone: cone angle "
-                                     "at the band versus focal length and energy",
-                       epilog="example:\n  thzarray focus --angle '6 deg' --band '0.2 THz,0.4 THz' "
-                              "--energy '0.5 mJ,1 mJ,2 mJ'\n\n" + SAFETY_SHORT,
-                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    p = _command(sub, "focus", "pick lens and pulse energy for a target cone: cone angle at "
+                               "the band versus focal length and energy",
+                 ["thzarray focus --angle '6 deg' --band '0.2 THz,0.4 THz' "
+                  "--energy '0.5 mJ,1 mJ,2 mJ'"], cmd_focus)
     p.add_argument("--angle", required=True, help="target cone angle, e.g. '6 deg'")
     p.add_argument("--band", required=True, help="receiver band LOW,HIGH, e.g. '0.2 THz,0.4 THz'")
     p.add_argument("--energy", default="0.5 mJ,1 mJ,2 mJ,4 mJ", help="pulse energies, comma list")
@@ -168,16 +142,12 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--beam-radius", default="5 mm", help="1/e^2 intensity radius at the lens")
     p.add_argument("--focal", default="0.2 m,5 m", help="focal-length range of the chart LOW,HIGH")
     _medium_flags(p)
-    _common(p)
-    p.set_defaults(func=cmd_focus)
 
-    p = sub.add_parser("sweep", help="parameter study over design keys and seeds on dask "
-                                     "(local cluster by default), resumable",
-                       epilog="examples:\n  thzarray sweep designs/sweeps/length_scan.toml --out results\n"
-                              "  thzarray sweep study.toml --scheduler tcp://HOST:8786\n\n"
-                              "Sweep-file format: designs/sweeps/README.md.\n\n" + SAFETY_SHORT,
-                       formatter_class=argparse.RawDescriptionHelpFormatter)
-    p.add_argument("sweep", type=Path, help="sweep file (TOML)")
+    p = _command(sub, "sweep", "parameter study over design keys and seeds on dask (local "
+                               "cluster by default), resumable",
+                 ["thzarray sweep designs/sweeps/length_scan.toml --out results",
+                  "thzarray sweep study.toml --scheduler tcp://HOST:8786"], cmd_sweep,
+                 ("sweep", "sweep file (TOML)"), note="Sweep-file format: designs/sweeps/README.md.")
     p.add_argument("--workers", type=int, default=2,
                    help="worker processes of the local cluster on 127.0.0.1 (default 2)")
     where = p.add_mutually_exclusive_group()
@@ -185,16 +155,11 @@ def build_parser() -> argparse.ArgumentParser:
                        help="use a running dask scheduler, e.g. tcp://HOST:8786")
     where.add_argument("--serial", action="store_true", help="run in this process without dask")
     p.add_argument("--recompute", action="store_true", help="ignore finished parts")
-    _common(p)
-    p.set_defaults(func=cmd_sweep)
 
-    p = sub.add_parser("demo", help="run every design in designs/ and write the gallery",
-                       epilog="example:\n  thzarray demo --out gallery --force\n\n" + SAFETY_SHORT,
-                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    p = _command(sub, "demo", "run every design in designs/ and write the gallery",
+                 ["thzarray demo --out gallery --force"], cmd_demo)
     p.add_argument("--designs", type=Path, default=Path("designs"),
                    help="directory of example designs (default: ./designs)")
-    _common(p)
-    p.set_defaults(func=cmd_demo)
     return parser
 
 
