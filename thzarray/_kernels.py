@@ -36,7 +36,7 @@ __all__ = [
 _SERIES_TERMS = 24
 
 
-@njit(cache=True, parallel=True)
+@njit(cache=True, parallel=True, error_model="numpy")
 def _uniform_sum(freq, theta, phi, length, start, axis, delay, weight, n_group, n_thz,
                  out_t, out_p):
     m = freq.shape[0]
@@ -134,7 +134,7 @@ def uniform_sum_numpy(freq, theta, phi, length, start, axis, delay, weight, n_gr
 _RESEED = 32  # recurrence steps between exact re-evaluations of the exponentials
 
 
-@njit(cache=True, parallel=True)
+@njit(cache=True, parallel=True, error_model="numpy")
 def _uniform_grid(freq, theta, phi, length, start, axis, delay, weight, n_group, n_thz,
                   scale, equal_steps, out_t, out_p):
     nf = freq.shape[0]
