@@ -26,6 +26,16 @@ Which module owns what (arrows point down only; see DEVELOPERS.md):
 - ``atmosphere``    ITU-R P.676-12 Annex 1 line-by-line absorption of humid air.
 - ``detectors``     narrow-band and broadband receivers, polarization on a surface.
 - ``budget``        energy into a receiver versus range and humidity.
+
+Edge layer (not imported by the package itself):
+
+- ``units``         unit strings ("30 cm", "0.3 THz") -> SI floats (pint).
+- ``design``        TOML design files: schema and validation of every problem at once.
+- ``jobs``          design-level computations behind the commands.
+- ``tables``        CSV files of layouts, measured scans and detector responses.
+- ``report``        labelled datasets and netCDF; ``output``: atomic, no-overwrite writes.
+- ``plots``         matplotlib and plotly figures.
+- ``sweep``         parameter studies on dask.distributed, resumable.
 - ``cli``           the ``thzarray`` command (top layer; the only module that prints).
 
 Importing the package never imports a plotting library. SI units and radians throughout.
