@@ -113,3 +113,15 @@ def test_internal_error_exit_1(monkeypatch, capsys):
     monkeypatch.setattr(cli, "cmd_safety", boom)
     code, _, err = run("safety", capsys=capsys)
     assert code == 1 and "kaput" in err and "Traceback" not in err
+
+
+def test_json_output_is_strict_json_for_a_target_in_the_null(tmp_path, capsys, array_design):
+    # A target on the axis of parallel columns sits in the element pattern's null: the
+    # element level is -inf dB, which JSON cannot carry; it is reported as null.
+    path = array_design()
+    code = main(["steer", str(path), "--toward", "0 deg,0 deg", "--json", "--out",
+                 str(tmp_path / "o")])
+    assert code == 0
+    data = json.loads(capsys.readouterr().out, parse_constant=lambda c: pytest.fail(c))
+    assert data["cone_level_db"] is None
+    assert any("null" in n for n in data["notes"])

@@ -189,9 +189,23 @@ def _medium_from_flags(args):
 def _emit(args, result: dict, text: str):
     args.summary = result
     if args.json:
-        print(json.dumps(result, indent=2, sort_keys=True, default=_jsonable))
+        print(json.dumps(_finite(result), indent=2, sort_keys=True, default=_jsonable,
+                         allow_nan=False))
     else:
         print(text)
+
+
+def _finite(obj):
+    """JSON has no inf or NaN: such numbers become null."""
+    if isinstance(obj, dict):
+        return {k: _finite(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_finite(v) for v in obj]
+    if isinstance(obj, np.ndarray):
+        return _finite(obj.tolist())
+    if isinstance(obj, (float, np.floating)) and not np.isfinite(obj):
+        return None
+    return obj
 
 
 def _jsonable(obj):
