@@ -125,3 +125,34 @@ def test_json_output_is_strict_json_for_a_target_in_the_null(tmp_path, capsys, a
     data = json.loads(capsys.readouterr().out, parse_constant=lambda c: pytest.fail(c))
     assert data["cone_level_db"] is None
     assert any("null" in n for n in data["notes"])
+
+
+def test_map_far_field_prediction_converges_to_exact_field(tmp_path, capsys):
+    # Far from a short column the exact finite-distance field and the far-field prediction
+    # must agree (Jackson sec. 9.1: the radiation zone), also for a Gaussian-beam receiver,
+    # whose mode overlap depends on the phase.
+    path = tmp_path / "far.toml"
+    path.write_text("""
+[design]
+name = "far check"
+[medium]
+kind = "vacuum"
+[filament]
+length = "2 cm"
+[observe]
+freq = ["0.3 THz"]
+[receiver]
+center_freq = "0.3 THz"
+bandwidth = "10 GHz"
+beam_waist = "3 cm"
+band_points = 3
+[plane]
+distance = "4 m"
+x = { start = "0.05 m", stop = "0.65 m", points = 13 }
+y = { start = "-0.3 m", stop = "0.3 m", points = 13 }
+[outputs]
+formats = ["csv"]
+""")
+    assert main(["map", str(path), "--json", "--out", str(tmp_path / "o")]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["near_over_far_peak"] == pytest.approx(1.0, abs=0.02)

@@ -199,7 +199,11 @@ def detector_map(design: Design) -> DetectorMap:
     theta = np.arccos(np.clip(rel[..., 2] / dist, -1, 1))
     phi = np.arctan2(rel[..., 1], rel[..., 0])
     ff = far_field(design.sources, freq[:, None, None], theta, phi, design.medium, design.plasma)
-    e_far = ff.cartesian / dist[..., None]
+    # E ~ F(r') exp(ik(R' + r'.c)) / R' with F referenced to the origin and R', r' seen from
+    # the centre c; the phase matters for a receiver that overlaps the field with a beam.
+    k = 2 * np.pi * freq[:, None, None] * design.medium.n_thz / 299792458.0
+    path = dist + (rel / dist[..., None]) @ centre
+    e_far = ff.cartesian * (np.exp(1j * k * path) / dist)[..., None]
     air = _air(design)
     if air is not None:
         dist = np.linalg.norm(pts - np.asarray(design.sources[0].start), axis=-1)
