@@ -81,6 +81,7 @@ def test_sampled_profile_is_pchip_transform(rng):
 
 
 def test_uniform_profile_equals_uniform_filament():
+    # Consistency (common practice, no source): a profile w(s) = 1 is a uniform column.
     f = np.linspace(0.1e12, 2e12, 5)[:, None]
     th = np.linspace(0, np.pi, 41)
     a = far_field(Filament(0.3), f, th, 0.0, HUMID)
@@ -89,6 +90,7 @@ def test_uniform_profile_equals_uniform_filament():
 
 
 def test_compiled_kernels_match_numpy_twins(rng):
+    # The compiled kernels and their numpy twins evaluate the same formula (DEVELOPERS.md).
     fils = [Filament(rng.uniform(0.05, 1.0), start=rng.normal(0, 0.01, 3),
                      axis=rng.normal(0, 1, 3), delay=rng.normal(0, 1e-12),
                      weight=rng.uniform(0.5, 1.5)) for _ in range(5)]
@@ -104,7 +106,8 @@ def test_compiled_kernels_match_numpy_twins(rng):
 
 
 def test_axis_and_back_directions_are_nulls_and_finite():
-    # A z-directed line current has no field along its axis (sin(theta) factor).
+    # A z-directed line current has no field along its axis: E ~ r x (r x J) vanishes for
+    # J parallel to r (Jackson sec. 9.2; the sin(theta) factor of REFERENCES.md).
     freq = np.array([0.3e12, 1e12])[:, None]
     ff = far_field(Filament(1.0), freq, np.array([0.0, np.pi]), 0.0)
     peak = far_field(Filament(1.0), freq, np.linspace(0, np.pi, 2001), 0.0)
@@ -113,7 +116,8 @@ def test_axis_and_back_directions_are_nulls_and_finite():
 
 
 def test_exact_phase_matching_gives_full_length():
-    # At cos(theta) = n_g / n_T (humid air) the integral is exactly L (u = 0).
+    # At cos(theta) = n_g / n_T (humid air) the integral is exactly L (u = 0), so
+    # |F| = w mu0 L sin(theta) / (4 pi) (REFERENCES.md line-current formula, computed here).
     m = HUMID
     th = np.arccos(m.n_group / m.n_thz)
     f = 0.5e12
@@ -123,6 +127,7 @@ def test_exact_phase_matching_gives_full_length():
 
 
 def test_pattern_is_radially_polarized_along_theta():
+    # REFERENCES.md: the field of an on-axis line current is along theta-hat (radial).
     ff = far_field(Filament(0.3), 0.3e12, np.linspace(0.01, 3.1, 50)[:, None],
                    np.linspace(0, 2 * np.pi, 13))
     assert np.all(np.abs(ff.e_phi) < 1e-14 * np.abs(ff.e_theta).max())
@@ -150,14 +155,16 @@ def test_minus_z_filament_mirrors_plus_z(theta, freq):
 
 @given(st.floats(-5e-12, 5e-12), st.floats(0.1e12, 2e12), st.floats(0.0, np.pi))
 def test_delay_is_a_phase_factor(delay, freq, theta):
-    # exp(-i w t) convention: a source delayed by tau contributes exp(+i w tau).
+    # Fourier shift theorem with the exp(-i w t) convention: a source delayed by tau
+    # contributes exp(+i w tau) (common practice, no source).
     a = far_field(Filament(0.2), freq, theta, 1.0).e_theta
     b = far_field(Filament(0.2, delay=delay), freq, theta, 1.0).e_theta
     assert_allclose(b, a * np.exp(2j * np.pi * freq * delay), rtol=1e-9, atol=1e-25)
 
 
 def test_rotation_invariance(rng):
-    # Rotating source and direction together leaves the intensity unchanged.
+    # Isotropy of free space (common practice, no source): rotating the source and the
+    # direction together leaves the intensity unchanged.
     from scipy.spatial.transform import Rotation
 
     rot = Rotation.from_rotvec(rng.normal(size=3)).as_matrix()
@@ -172,6 +179,7 @@ def test_rotation_invariance(rng):
 
 
 def test_sum_is_coherent_and_linear():
+    # Superposition: Maxwell's equations are linear (Jackson sec. 9.1).
     f1, f2 = Filament(0.2), Filament(0.3, start=(0.002, 0, 0), delay=1e-12, weight=-0.5)
     a = far_field([f1, f2], 0.7e12, 0.2, 0.3).cartesian
     b = far_field(f1, 0.7e12, 0.2, 0.3).cartesian + far_field(f2, 0.7e12, 0.2, 0.3).cartesian

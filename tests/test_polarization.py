@@ -7,6 +7,7 @@ from thzarray import polarization_map
 
 
 def test_single_filament_is_radially_polarized_any_axis(rng):
+    # REFERENCES.md: a line current radiates along theta-hat about its own axis, for any axis.
     axis = rng.normal(size=3)
     fil = Filament(0.3, axis=axis)
     th = np.linspace(0.05, 3.0, 30)[:, None]
@@ -19,6 +20,7 @@ def test_single_filament_is_radially_polarized_any_axis(rng):
 
 
 def test_azimuthal_field_has_zero_radial_degree():
+    # Definition of the degree of radial polarization |E_rho|^2 / |E|^2 (module docstring).
     th = np.linspace(0.1, 1.0, 5)
     ff = FarField(np.array(1e12), th, np.array(0.3), np.zeros(5, complex), np.ones(5, complex),
                   Medium.vacuum())
@@ -45,7 +47,8 @@ def test_stokes_fully_polarized_identity(rng):
 
 
 def test_two_tilted_filaments_reduce_radial_degree():
-    # Two columns along different axes: about the z axis the sum is no longer radial.
+    # Two columns along different axes: about the z axis the sum is no longer purely radial,
+    # while the degree stays a fraction in (0, 1) (definition; common practice, no source).
     fils = [Filament(0.2, axis=(0.3, 0, 1)), Filament(0.2, axis=(-0.3, 0.2, 1), delay=0.4e-12)]
     th = np.linspace(0.02, 0.6, 40)[:, None]
     ph = np.linspace(0, 2 * np.pi, 24, endpoint=False)
