@@ -50,6 +50,8 @@ from .plasma import Plasma
 
 __all__ = [
     "FarField",
+    "axis_frame",
+    "check_directions",
     "far_field",
     "radiation_prefactor",
     "spectral_energy",
@@ -128,7 +130,8 @@ def radiation_prefactor(freq, medium: Medium, plasma: Plasma | None):
     return 1j * w * mu_0 * current / (4 * np.pi)
 
 
-def _check_angles(freq, theta, phi):
+def check_directions(freq, theta, phi):
+    """Validate freq (> 0), theta (0 to pi) and phi; return them and their broadcast shape."""
     freq = as_float_array("freq", freq, low=0.0, low_open=True, unit="Hz")
     theta = as_float_array("theta", theta, low=0.0, high=np.pi, unit="rad")
     phi = as_float_array("phi", phi, unit="rad")
@@ -199,7 +202,7 @@ def far_field(sources, freq, theta, phi, medium: Medium | None = None,
     """
     fils = as_sources(sources)
     medium = Medium.vacuum() if medium is None else medium
-    freq, theta, phi, shape = _check_angles(freq, theta, phi)
+    freq, theta, phi, shape = check_directions(freq, theta, phi)
     size = int(np.prod(shape))
     result_bytes = 32 * size
     check_result_fits("far_field", result_bytes, memory_budget)
@@ -268,8 +271,8 @@ def _outer_layout(shape, *arrays):
 
 # --- energy ---------------------------------------------------------------------------------
 
-def _frame(axis):
-    """Orthonormal frame (x', y', z') with z' along ``axis``."""
+def axis_frame(axis):
+    """Orthonormal frame (x', y', z') with z' along the unit vector ``axis``."""
     z = np.asarray(axis, float)
     helper = np.array([1.0, 0.0, 0.0]) if abs(z[0]) < 0.9 else np.array([0.0, 1.0, 0.0])
     x = np.cross(helper, z)
@@ -286,7 +289,7 @@ def _sphere_rule(fils, freq_max, medium):
     converges spectrally for periodic integrands, with nodes for the transverse extent.
     """
     kmax = 2 * np.pi * freq_max * (medium.n_group + medium.n_thz) / c
-    ex, ey, ez = _frame(fils[0].axis)
+    ex, ey, ez = axis_frame(fils[0].axis)
     pts = np.array([p for f in fils for p in (np.asarray(f.start), f.end)])
     rel = pts - pts.mean(axis=0)
     long_extent = np.ptp(pts @ ez) + max(f.length for f in fils)

@@ -58,7 +58,10 @@ __all__ = [
     "array_factor_directivity",
     "array_gain",
     "band_weights",
+    "check_band",
+    "check_target",
     "directivity",
+    "layout_extent",
     "target_fields",
 ]
 
@@ -144,7 +147,7 @@ class Receiver:
         sources' pattern across the aperture.
         """
         k = 2 * np.pi * freq_max * medium.n_thz / c
-        spread = k * _extent(sources) * self.radius / self.distance
+        spread = k * layout_extent(sources) * self.radius / self.distance
         panels = int(np.ceil(spread / np.pi)) + 1
         naz = 2 * int(np.ceil(spread)) + 12
         x8, w8 = roots_legendre(8)
@@ -164,14 +167,15 @@ class Receiver:
         return theta.ravel(), phi.ravel(), wts.ravel()
 
 
-def _extent(sources):
+def layout_extent(sources):
     """Largest distance between any two column ends (m); the scale of the finest pattern."""
     fils = as_sources(sources)
     pts = np.array([p for f in fils for p in (np.asarray(f.start), f.end)])
     return float(np.max(np.linalg.norm(pts[:, None] - pts[None], axis=-1)))
 
 
-def _check_target(target):
+def check_target(target):
+    """The target itself when it is a Direction or a Receiver; ValueError otherwise."""
     if not isinstance(target, (Direction, Receiver)):
         raise ValueError(f"target = {type(target).__name__}; allowed: Direction or Receiver")
     return target
@@ -192,7 +196,7 @@ def band_weights(freq, weight=None) -> np.ndarray:
     -------
     ndarray, shape (F,)
     """
-    freq = _check_freq(freq)
+    freq = check_band(freq)
     if freq.size == 1:
         base = np.ones(1)
     else:
@@ -206,7 +210,8 @@ def band_weights(freq, weight=None) -> np.ndarray:
     return base * w
 
 
-def _check_freq(freq):
+def check_band(freq):
+    """Band frequencies (Hz) as a 1-D strictly increasing array of positive values."""
     freq = np.atleast_1d(as_float_array("freq", freq, low=0.0, low_open=True, unit="Hz"))
     if freq.ndim != 1 or np.any(np.diff(freq) <= 0):
         raise ValueError(f"freq = array of shape {freq.shape}; allowed: a 1-D strictly "
@@ -320,9 +325,9 @@ def target_fields(sources, target, freq, medium: Medium | None = None,
     TargetFields
     """
     fils = as_sources(sources)
-    target = _check_target(target)
+    target = check_target(target)
     medium = Medium.vacuum() if medium is None else medium
-    freq = _check_freq(freq)
+    freq = check_band(freq)
     bw = band_weights(freq, weight)
     th, ph, nw = target.nodes(fils, freq[-1], medium)
     g = filament_fields(fils, freq[:, None], th[None, :], ph[None, :], medium, plasma)
@@ -460,7 +465,7 @@ def directivity(sources, theta, phi, freq, medium: Medium | None = None,
     theta = _check_theta("theta", theta)
     phi = check_scalar("phi", phi, unit="rad")
     medium = Medium.vacuum() if medium is None else medium
-    freq = _check_freq(freq)
+    freq = check_band(freq)
     bw = band_weights(freq, weight)
     toward = array_far_field(fils, freq, theta, phi, medium, plasma).energy_density
     total = spectral_energy(fils, freq, medium, plasma)

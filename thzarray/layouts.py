@@ -34,7 +34,7 @@ import numpy as np
 
 from . import _array_kernels
 from ._validate import as_float_array, check_scalar, check_vector3
-from .farfield import FarField, _check_angles, _frame, far_field
+from .farfield import FarField, check_directions, axis_frame, far_field
 from .filament import Filament, as_sources
 from .medium import Medium
 from .plasma import Plasma
@@ -135,7 +135,7 @@ def _transverse(axis):
     a = a / np.linalg.norm(a)
     if np.allclose(a, (0.0, 0.0, 1.0), rtol=0.0, atol=1e-15):
         return np.array([1.0, 0.0, 0.0]), np.array([0.0, 1.0, 0.0])
-    ex, ey, _ = _frame(a)
+    ex, ey, _ = axis_frame(a)
     return ex, ey
 
 
@@ -407,7 +407,7 @@ def array_factor(sources, freq, theta, phi, medium: Medium | None = None, *,
     """
     fils = as_sources(sources)
     medium = Medium.vacuum() if medium is None else medium
-    freq, theta, phi, shape = _check_angles(freq, theta, phi)
+    freq, theta, phi, shape = check_directions(freq, theta, phi)
     start, delay, weight = _pack(fils)
     k = _grid_split(freq, theta, phi, shape)
     if k is not None:

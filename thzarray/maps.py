@@ -21,7 +21,7 @@ from scipy.constants import c
 
 from ._validate import as_float_array, check_scalar
 from .filament import as_sources
-from .gain import _check_freq, _extent, band_weights
+from .gain import check_band, layout_extent, band_weights
 from .layouts import array_far_field
 from .medium import Medium
 from .plasma import Plasma
@@ -121,7 +121,7 @@ def sky_map(sources, theta, phi, freq, medium: Medium | None = None,
     fils = as_sources(sources)
     theta = _axis("theta", theta, 0.0, np.pi)
     phi = _axis("phi", phi)
-    freq = _check_freq(freq)
+    freq = check_band(freq)
     bw = band_weights(freq, weight)
     medium = Medium.vacuum() if medium is None else medium
     energy = np.empty((theta.size, phi.size))
@@ -154,7 +154,7 @@ def frequency_map(sources, theta, freq, phi: float = 0.0, medium: Medium | None 
     """
     fils = as_sources(sources)
     theta = _axis("theta", theta, 0.0, np.pi)
-    freq = _check_freq(freq)
+    freq = check_band(freq)
     phi = check_scalar("phi", phi, unit="rad")
     ff = array_far_field(fils, freq[:, None], theta[None, :], phi, medium, plasma)
     return FrequencyMap(freq, theta, phi, ff.energy_density)
@@ -187,10 +187,10 @@ def sky_grid(sources, freq, medium: Medium | None = None, *, theta_max: float = 
         Periodic azimuths 2 pi j / P (rad).
     """
     fils = as_sources(sources)
-    freq = _check_freq(freq)
+    freq = check_band(freq)
     medium = Medium.vacuum() if medium is None else medium
     tmax = check_scalar("theta_max", theta_max, low=0.0, low_open=True, high=np.pi, unit="rad")
-    res = c / (freq[-1] * medium.n_thz * _extent(fils))
+    res = c / (freq[-1] * medium.n_thz * layout_extent(fils))
     step = min(res / 3, np.radians(0.5))
     span_phi = 2 * np.pi * (np.sin(tmax) if tmax < np.pi / 2 else 1.0)
     area = tmax * span_phi

@@ -47,9 +47,9 @@ from scipy.optimize import brentq, minimize, minimize_scalar
 from . import _array_kernels
 from ._validate import as_float_array, check_scalar
 from .cone import cone_angle
-from .farfield import _frame, far_field, unit_vectors
+from .farfield import axis_frame, far_field, unit_vectors
 from .filament import Filament, as_sources
-from .gain import _check_freq, _check_target, _extent, band_weights, target_fields
+from .gain import check_band, check_target, layout_extent, band_weights, target_fields
 from .layouts import array_factor, array_far_field, with_delays
 from .maps import sky_grid, sky_map
 from .medium import Medium
@@ -238,7 +238,7 @@ def _element_levels(fil, theta, phi, freq, medium, plasma):
     el = fil.replace(start=(0.0, 0.0, 0.0), delay=0.0, weight=1.0)
     at_target = far_field(el, freq, theta, phi, medium, plasma).intensity
     a = np.asarray(el.axis)
-    e1 = _frame(a)[0]
+    e1 = axis_frame(a)[0]
 
     def angles(psi):
         d = np.cos(psi)[..., None] * a + np.sin(psi)[..., None] * e1
@@ -291,7 +291,7 @@ def cone_level(sources, theta, phi, freq, medium: Medium | None = None,
     fils = as_sources(sources)
     theta, phi, _ = _direction(theta, phi)
     medium = Medium.vacuum() if medium is None else medium
-    freq = _check_freq(freq)
+    freq = check_band(freq)
     bw = band_weights(freq, weight)
     num, den = np.zeros(freq.size), np.zeros(freq.size)
     cache = {}
@@ -363,7 +363,7 @@ def squint(sources, theta, phi, freq, medium: Medium | None = None) -> SquintRep
     fils = as_sources(sources)
     theta, phi, _ = _direction(theta, phi)
     medium = Medium.vacuum() if medium is None else medium
-    freq = _check_freq(freq)
+    freq = check_band(freq)
     starts = np.array([f.start for f in fils])
     top = np.sum(np.abs([f.weight for f in fils])) ** 2
     out = np.empty((5, freq.size))
@@ -542,9 +542,9 @@ def steering_report(sources, target, freq, medium: Medium | None = None,
         When the element level at the target is below ``NULL_LEVEL_DB``.
     """
     fils = as_sources(sources)
-    target = _check_target(target)
+    target = check_target(target)
     medium = Medium.vacuum() if medium is None else medium
-    freq = _check_freq(freq)
+    freq = check_band(freq)
     bw = band_weights(freq, weight)
     tf = target_fields(fils, target, freq, medium, plasma, weight)
     energy = tf.energy([f.delay for f in fils])
@@ -560,7 +560,7 @@ def steering_report(sources, target, freq, medium: Medium | None = None,
         notes.append(f"the target is on the cone's flank, {level.band_db:.1f} dB below the "
                      "cone maximum; phasing gains N^2 over what one column sends there")
     pattern = _band_pattern(fils, freq, bw, medium, plasma)
-    step = c / (freq[-1] * medium.n_thz * _extent(fils)) / 20
+    step = c / (freq[-1] * medium.n_thz * layout_extent(fils)) / 20
     th_m, ph_m, peak = _climb(pattern, target.theta, target.phi, step)
     pointing = _angle_between(th_m, ph_m, target.theta, target.phi)
     widths = tuple(_half_width(pattern, th_m, ph_m, peak, step, a, 1.0)
@@ -734,9 +734,9 @@ def design_steering(sources, target, freq, *, max_delay=None, azimuths=None,
     and scaled down to fit it; the best optimum is kept.
     """
     fils = as_sources(sources)
-    target = _check_target(target)
+    target = check_target(target)
     medium = Medium.vacuum() if medium is None else medium
-    freq = _check_freq(freq)
+    freq = check_band(freq)
     bw = band_weights(freq, weight)
     if max_delay is not None:
         max_delay = check_scalar("max_delay", max_delay, low=0.0, low_open=True, unit="s")

@@ -40,7 +40,7 @@ import numpy as np
 from scipy.constants import c
 
 from ._validate import check_scalar
-from .farfield import _frame, unit_vectors
+from .farfield import axis_frame, unit_vectors
 from .filament import as_sources
 from .gain import target_fields
 from .medium import Medium
@@ -166,7 +166,7 @@ def tolerance(sources, target, freq, *, timing_jitter=0.0, transverse_error=0.0,
     th, ph, _ = target.nodes(fils, tf.omega[-1] / (2 * np.pi), medium)
     r = unit_vectors(th, ph)[0]  # (J, 3)
     axes = np.array([f.axis for f in fils])
-    frames = [_frame(a)[:2] for a in axes]
+    frames = [axis_frame(a)[:2] for a in axes]
     e1 = np.array([f[0] for f in frames])
     e2 = np.array([f[1] for f in frames])
     w = tf.omega
