@@ -4,7 +4,7 @@ VENV   := .venv
 PY     := $(VENV)/bin/python
 PIP    := $(PY) -m pip
 
-.PHONY: demo test bench clean
+.PHONY: demo test bench docs clean
 
 $(PY):
 	$(PYTHON) -m venv $(VENV)
@@ -23,6 +23,7 @@ demo: $(VENV)/.install-stamp
 	$(VENV)/bin/thzarray demo --out gallery --force
 
 test: $(VENV)/.install-stamp-test
+	$(VENV)/bin/ruff check thzarray tests benchmarks designs
 	$(PY) -m pytest
 
 bench: $(VENV)/.install-stamp-test

@@ -13,8 +13,8 @@ import time
 import numpy as np
 
 from thzarray import Medium, far_field
-from thzarray.layouts import grid
-from thzarray.maps import sky_map
+from thzarray.array.layouts import grid
+from thzarray.array.maps import sky_map
 
 from .common import machine
 
@@ -47,7 +47,7 @@ def run() -> None:
     t_gen *= theta.size / rows_c
 
     check = sky_map(layout, theta[:rows], phi, freq, medium).energy
-    from thzarray.gain import band_weights
+    from thzarray.array.gain import band_weights
     ref_energy = np.tensordot(band_weights(freq), ref.energy_density, axes=(0, 0))
     err = np.max(np.abs(check - ref_energy)) / np.max(ref_energy)
 

@@ -10,8 +10,8 @@ import numpy as np
 from numba import njit, prange
 
 from benchmarks.common import best_time, machine
-from thzarray import Filament, Medium, far_field, layouts
-from thzarray.nearfield import field_at
+from thzarray import Medium, far_field, layouts
+from thzarray.field.nearfield import field_at
 
 
 @njit(cache=True, parallel=True)

@@ -15,8 +15,8 @@ from scipy.integrate import quad
 
 from benchmarks.common import machine
 from thzarray import Filament, Medium
-from thzarray.nearfield import field_at
-from thzarray.surfaces import plane_scan
+from thzarray.field.nearfield import field_at
+from thzarray.field.surfaces import plane_scan
 
 
 def layout():
@@ -47,7 +47,7 @@ def quad_column(fil, freq, x, medium):
             val = quad(lambda s: part(vec(s)[comp]), 0.0, fil.length, epsabs=1e-12 * size,
                        epsrel=1e-10, limit=5000)[0]
             out[comp] += unit * val
-    return (1j * w * mu_0 / (4 * np.pi) * fil.weight * np.exp(1j * w * fil.delay)) * out
+    return (1j * w * mu_0 / (4 * np.pi) * fil.amplitude * np.exp(1j * w * fil.delay)) * out
 
 
 def run(n_side=512, n_freq=8, n_sample=4):

@@ -30,8 +30,8 @@ def clean_signal(angle_rad):
     medium = Medium(air.n_thz + TRUE["mismatch"], air.n_thz)
     column = Filament(TRUE["length"])
     peak = far_field(column, FREQ, cone_angle(TRUE["length"], FREQ, medium), 0.0,
-                     medium).intensity
-    pattern = far_field(column, FREQ, angle_rad, 0.0, medium).intensity / peak
+                     medium).magnitude_squared
+    pattern = far_field(column, FREQ, angle_rad, 0.0, medium).magnitude_squared / peak
     return TRUE["amplitude"] * pattern + TRUE["background"]
 
 

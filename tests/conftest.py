@@ -33,7 +33,7 @@ band = ["0.2 THz", "0.4 THz"]
 band_points = 3
 [tolerance]
 timing_jitter = "0.1 ps"
-shots = 50
+trials = 50
 [observe]
 freq = ["0.3 THz"]
 theta = {{ start = "0 deg", stop = "20 deg", points = 11 }}

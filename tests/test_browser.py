@@ -8,7 +8,7 @@ from pathlib import Path
 
 import pytest
 
-from thzarray.cli import main
+from thzarray.app.cli import main
 
 ROOT = Path(__file__).resolve().parents[1]
 CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")

@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 
 from thzarray import Medium, cone_angle, length_for_cone
-from thzarray.cli import main
+from thzarray.app.cli import main
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -54,7 +54,7 @@ def test_bad_input_exits_2_with_one_line(args, needle, capsys):
 
 
 def test_help_shows_laser_safety():
-    out = subprocess.run([sys.executable, "-m", "thzarray.cli", "--help"], capture_output=True,
+    out = subprocess.run([sys.executable, "-m", "thzarray.app.cli", "--help"], capture_output=True,
                          text=True, check=True).stdout
     for word in ("class-4", "eye and skin", "ozone", "IEC 60825-1", "ANSI Z136.1",
                  "laser safety officer"):
@@ -105,7 +105,7 @@ formats = ["png", "csv", "netcdf"]
 
 
 def test_internal_error_exit_1(monkeypatch, capsys):
-    import thzarray.cli as cli
+    import thzarray.app.cli as cli
 
     def boom(args):
         raise RuntimeError("kaput")

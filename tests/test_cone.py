@@ -15,7 +15,7 @@ DRY = Medium.air()
 
 def mp_peak(length, freq, medium, guess):
     """Independent maximisation of sin^2(t) sin^2(X)/(K - n cos t)^2,
-    X = (w L / 2c)(K - n cos t) (REFERENCES.md line-current pattern), by a 40-digit
+    X = (w L / 2c)(K - n cos t) (docs/references.rst line-current pattern), by a 40-digit
     root of the derivative (mpmath)."""
     with mp.workdps(40):
         a = mp.pi * mp.mpf(freq) * mp.mpf(length) / mp.mpf(c)
@@ -29,7 +29,7 @@ def mp_peak(length, freq, medium, guess):
 
 
 def test_tan_x_equals_2x_root_gives_0371():
-    # REFERENCES.md: 0.371 = x0/pi with tan(x0) = 2 x0, x0 = 1.165561 (computed).
+    # docs/references.rst: 0.371 = x0/pi with tan(x0) = 2 x0, x0 = 1.165561 (computed).
     x0 = brentq(lambda x: np.tan(x) - 2 * x, 1.0, 1.5)
     assert_allclose(x0, 1.165561, atol=1e-6)
     assert_allclose(x0 / np.pi, 0.371, atol=5e-4)
@@ -47,7 +47,7 @@ def test_balanis_0371_rule(ratio):
 
 @pytest.mark.parametrize("ratio, degrees", [(10, 15.589), (100, 4.9349)])
 def test_exact_vacuum_peaks(ratio, degrees):
-    # REFERENCES.md (computed): exact maxima with K = n_T = 1.
+    # docs/references.rst (computed): exact maxima with K = n_T = 1.
     lam = c / 1e12
     got = np.degrees(cone_angle(ratio * lam, 1e12))
     assert_allclose(got, degrees, atol=0.5 * 10.0 ** -(len(str(degrees).split(".")[1])))
@@ -159,8 +159,8 @@ def test_band_cone_angle_between_band_edges():
 
 def test_band_cone_angle_weights_pull_toward_weighted_frequency():
     length, band = 0.3, np.linspace(0.2e12, 1.0e12, 41)
-    low = band_cone_angle(length, band, weight=np.exp(-((band - 0.2e12) / 0.1e12) ** 2))
-    high = band_cone_angle(length, band, weight=np.exp(-((band - 1.0e12) / 0.1e12) ** 2))
+    low = band_cone_angle(length, band, spectral_weight=np.exp(-((band - 0.2e12) / 0.1e12) ** 2))
+    high = band_cone_angle(length, band, spectral_weight=np.exp(-((band - 1.0e12) / 0.1e12) ** 2))
     assert high < low
 
 
@@ -177,7 +177,7 @@ def test_worked_example_numbers():
 
 def test_worked_example_pattern_ratio():
     # README: intensity at 6 deg relative to the cone maximum for 30 cm at 0.3 THz, from the
-    # REFERENCES.md line-current formula sin^2(t) sin^2(X)/(K - n cos t)^2 evaluated here.
+    # docs/references.rst line-current formula sin^2(t) sin^2(X)/(K - n cos t)^2 evaluated here.
     f, length = 0.3e12, 0.30
     cone = float(cone_angle(length, f, HUMID))
 

@@ -7,8 +7,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from thzarray.cli import main
-from thzarray.design import DesignError, load_design, parse_design
+from thzarray.app.cli import main
+from thzarray.app.design import DesignError, load_design, parse_design
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = sorted((ROOT / "designs").glob("*.toml"))
@@ -42,7 +42,7 @@ def test_example_validates(path, capsys):
 
 def test_base_is_valid():
     d = parse_design(tomllib.loads(BASE))
-    assert d.sources[0].length == pytest.approx(0.10)
+    assert d.filaments[0].length == pytest.approx(0.10)
     assert d.grid.theta[-1] == pytest.approx(np.radians(10))
 
 
@@ -94,7 +94,7 @@ MALFORMED = [
     ('[observe]', '[steering]\ntoward = ["5 deg"]\n[observe]', "steering.toward"),
     ('[observe]', '[steering]\ntoward = ["5 deg", "0 deg"]\nmethod = "phase-only"\n[observe]',
      "steering.design_freq"),
-    ('[observe]', '[steering]\nreceiver_radius = "1 cm"\n[observe]', "steering"),
+    ('[observe]', '[steering]\naperture_radius = "1 cm"\n[observe]', "steering"),
     ('[observe]', '[tolerance]\ntiming_jitter = "-1 ps"\n[observe]', "tolerance.timing_jitter"),
     ('[observe]', '[receiver]\ncenter_freq = "0.1 THz"\nbandwidth = "10 GHz"\n[observe]',
      "receiver"),
@@ -156,7 +156,7 @@ def test_not_toml_and_missing_file(tmp_path, capsys):
 def test_units_and_plain_si_agree():
     a = parse_design(tomllib.loads(BASE))
     b = parse_design(tomllib.loads(BASE.replace('"10 cm"', "0.1").replace('"30 %"', "0.3")))
-    assert a.sources[0].length == pytest.approx(b.sources[0].length, rel=1e-15)
+    assert a.filaments[0].length == pytest.approx(b.filaments[0].length, rel=1e-15)
     assert a.medium == b.medium
 
 
@@ -173,7 +173,7 @@ JSON_KEYS = {
                 "phased_over_single", "incoherent_over_single", "phased_over_ideal",
                 "target_theta_deg"},
     "tolerance": {"design", "files", "mean", "std", "standard_error", "percentile",
-                  "percentile_value", "expected_mean", "shots"},
+                  "percentile_value", "expected_mean", "trials"},
     "map": {"design", "files", "plane_distance_m", "near_field_peak", "far_field_peak",
             "near_over_far_peak", "energy_unit"},
     "budget": {"design", "files", "distance_m", "relative_humidity", "energy", "absorption_db",
@@ -224,12 +224,12 @@ def test_force_semantics(tmp_path, capsys, array_design):
     assert main(["steer", str(path), "--out", str(out), "--force", "--quiet",
                  "--write", str(new)]) == 0
     steered = load_design(new)
-    assert len(steered.sources) == 3 and steered.sources[-1].delay > 0
+    assert len(steered.filaments) == 3 and steered.filaments[-1].delay > 0
     # delays written are those the steering computed
     capsys.readouterr()
     assert main(["steer", str(path), "--out", str(out), "--force", "--json"]) == 0
     delays = json.loads(capsys.readouterr().out)["delays_s"]
-    assert [f.delay for f in steered.sources] == pytest.approx(delays, rel=1e-12, abs=1e-30)
+    assert [f.delay for f in steered.filaments] == pytest.approx(delays, rel=1e-12, abs=1e-30)
     assert main(["steer", str(path), "--out", str(out), "--force", "--quiet",
                  "--write", str(new)]) == 0  # --force also allows replacing the design file
     assert main(["steer", str(path), "--out", str(out), "--quiet", "--write", str(new)]) == 2
@@ -238,16 +238,16 @@ def test_force_semantics(tmp_path, capsys, array_design):
 @pytest.mark.slow
 @pytest.mark.parametrize("path", EXAMPLES, ids=lambda p: p.stem)
 def test_example_runs_every_job(path, tmp_path):
-    from thzarray.cli import _jobs_for
+    from thzarray.app.commands.gallery import jobs_for
 
     design = load_design(path)
-    names = {job.__name__.removeprefix("cmd_") for job in _jobs_for(design)}
+    names = {job.__name__.removeprefix("cmd_") for job in jobs_for(design)}
     for name in sorted(names):
         assert main([name, str(path), "--out", str(tmp_path / name), "--quiet"]) == 0
 
 
 def test_schema_reference_lists_every_key():
-    from thzarray.design import SCHEMA
+    from thzarray.app.design import SCHEMA
 
     text = (ROOT / "designs" / "README.md").read_text()
     for section, keys in SCHEMA.items():

@@ -6,12 +6,18 @@ from numpy.testing import assert_allclose
 from scipy.constants import c, epsilon_0
 
 from thzarray import Filament, Medium
-from thzarray.tables import read_response, response_detector
-from thzarray.detectors import (BroadbandDetector, NarrowbandReceiver, detected_energy,
-                                passband_weights, received_energy,
-                                surface_degree_of_radial_polarization, surface_polarization)
-from thzarray.nearfield import field_at
-from thzarray.surfaces import plane_scan
+from thzarray.app.tables import read_response, response_detector
+from thzarray.base.band import passband_weights
+from thzarray.detect.receivers import (
+    BroadbandDetector,
+    NarrowbandReceiver,
+    detected_energy,
+    received_energy,
+    surface_degree_of_radial_polarization,
+    surface_polarization,
+)
+from thzarray.field.nearfield import field_at
+from thzarray.field.surfaces import plane_scan
 
 DATA = Path(__file__).parent / "data"
 HUMID = Medium.air(relative_humidity=0.5)
@@ -130,7 +136,7 @@ def test_broadband_detector_on_plane_wave():
 
 
 def test_surface_polarization_of_a_column_is_radial():
-    """A column on the axis radiates purely radially (REFERENCES.md, traveling line current):
+    """A column on the axis radiates purely radially (docs/references.rst, traveling line current):
     degree of radial polarization 1 on a detector plane; an x-polarized uniform field on a
     ring has Stokes S1/S0 = cos(2 phi) and degree 1/2 (Born & Wolf sec. 1.4.2)."""
     fil = Filament(0.2)

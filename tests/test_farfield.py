@@ -9,7 +9,7 @@ from scipy.interpolate import PchipInterpolator
 from scipy.special import sici
 
 from thzarray import Filament, Medium, Plasma, far_field
-from thzarray.farfield import source_spectral_energy, spectral_energy, total_energy
+from thzarray.field.energy import source_spectral_energy, spectral_energy, total_energy
 
 HUMID = Medium.air(relative_humidity=0.5)
 
@@ -30,14 +30,14 @@ def quad_radiation_vector(fil, freq, theta, phi, medium, profile=None):
     else:
         re, im = quad(prof, 0, fil.length, **opts)[0], 0.0
     integral = re + 1j * im
-    vec = (a - (r @ a) * r) * fil.weight * np.exp(1j * (w * fil.delay - kt * (r @ fil.start)))
+    vec = (a - (r @ a) * r) * fil.amplitude * np.exp(1j * (w * fil.delay - kt * (r @ fil.start)))
     return 1j * w * mu_0 / (4 * np.pi) * vec * integral
 
 
 @pytest.mark.parametrize("medium", [Medium.vacuum(), Medium.air(), HUMID, Medium(1.0, 1.002)])
 def test_closed_form_matches_quad(medium, rng):
     fil = Filament(0.37, start=(0.01, -0.02, 0.05), axis=(0.2, -0.1, 1.0), delay=3e-12,
-                   weight=0.7)
+                   amplitude=0.7)
     for _ in range(12):
         f, th, ph = rng.uniform(0.05e12, 2e12), rng.uniform(0, np.pi), rng.uniform(0, 2 * np.pi)
         got = far_field(fil, f, th, ph, medium).cartesian
@@ -93,7 +93,7 @@ def test_compiled_kernels_match_numpy_twins(rng):
     # The compiled kernels and their numpy twins evaluate the same formula (DEVELOPERS.md).
     fils = [Filament(rng.uniform(0.05, 1.0), start=rng.normal(0, 0.01, 3),
                      axis=rng.normal(0, 1, 3), delay=rng.normal(0, 1e-12),
-                     weight=rng.uniform(0.5, 1.5)) for _ in range(5)]
+                     amplitude=rng.uniform(0.5, 1.5)) for _ in range(5)]
     fils.append(Filament(0.2, profile=lambda s: 1 + s))
     f = rng.uniform(0.1e12, 2e12, 4)[:, None, None]
     th = rng.uniform(0, np.pi, 30)[:, None]
@@ -107,7 +107,7 @@ def test_compiled_kernels_match_numpy_twins(rng):
 
 def test_axis_and_back_directions_are_nulls_and_finite():
     # A z-directed line current has no field along its axis: E ~ r x (r x J) vanishes for
-    # J parallel to r (Jackson sec. 9.2; the sin(theta) factor of REFERENCES.md).
+    # J parallel to r (Jackson sec. 9.2; the sin(theta) factor of docs/references.rst).
     freq = np.array([0.3e12, 1e12])[:, None]
     ff = far_field(Filament(1.0), freq, np.array([0.0, np.pi]), 0.0)
     peak = far_field(Filament(1.0), freq, np.linspace(0, np.pi, 2001), 0.0)
@@ -117,7 +117,7 @@ def test_axis_and_back_directions_are_nulls_and_finite():
 
 def test_exact_phase_matching_gives_full_length():
     # At cos(theta) = n_g / n_T (humid air) the integral is exactly L (u = 0), so
-    # |F| = w mu0 L sin(theta) / (4 pi) (REFERENCES.md line-current formula, computed here).
+    # |F| = w mu0 L sin(theta) / (4 pi) (docs/references.rst line-current formula, computed here).
     m = HUMID
     th = np.arccos(m.n_group / m.n_thz)
     f = 0.5e12
@@ -127,7 +127,7 @@ def test_exact_phase_matching_gives_full_length():
 
 
 def test_pattern_is_radially_polarized_along_theta():
-    # REFERENCES.md: the field of an on-axis line current is along theta-hat (radial).
+    # docs/references.rst: the field of an on-axis line current is along theta-hat (radial).
     ff = far_field(Filament(0.3), 0.3e12, np.linspace(0.01, 3.1, 50)[:, None],
                    np.linspace(0, 2 * np.pi, 13))
     assert np.all(np.abs(ff.e_phi) < 1e-14 * np.abs(ff.e_theta).max())
@@ -137,8 +137,8 @@ def test_pattern_is_radially_polarized_along_theta():
 def test_phi_symmetry_for_on_axis_filament(theta, phi1, phi2):
     # Common practice, no source: a column on the z axis radiates the same at every azimuth.
     fil = Filament(0.4, start=(0, 0, -0.1))
-    a = far_field(fil, 0.4e12, theta, phi1, HUMID).intensity
-    b = far_field(fil, 0.4e12, theta, phi2, HUMID).intensity
+    a = far_field(fil, 0.4e12, theta, phi1, HUMID).magnitude_squared
+    b = far_field(fil, 0.4e12, theta, phi2, HUMID).magnitude_squared
     assert_allclose(a, b, rtol=1e-10, atol=1e-30)
 
 
@@ -147,9 +147,9 @@ def test_minus_z_filament_mirrors_plus_z(theta, freq):
     # Mirror symmetry z -> -z: a column along -z radiates at theta what one along +z
     # radiates at pi - theta.
     up_fil, down_fil = Filament(0.3, axis=(0, 0, 1)), Filament(0.3, axis=(0, 0, -1))
-    up = far_field(up_fil, freq, np.pi - theta, 0.0, HUMID).intensity
-    down = far_field(down_fil, freq, theta, 0.0, HUMID).intensity
-    peak = far_field(up_fil, freq, np.linspace(0, np.pi, 721), 0.0, HUMID).intensity.max()
+    up = far_field(up_fil, freq, np.pi - theta, 0.0, HUMID).magnitude_squared
+    down = far_field(down_fil, freq, theta, 0.0, HUMID).magnitude_squared
+    peak = far_field(up_fil, freq, np.linspace(0, np.pi, 721), 0.0, HUMID).magnitude_squared.max()
     assert_allclose(down, up, rtol=1e-9, atol=1e-12 * peak)
 
 
@@ -173,14 +173,14 @@ def test_rotation_invariance(rng):
     th, ph = rng.uniform(0, np.pi, 20), rng.uniform(0, 2 * np.pi, 20)
     r = np.stack([np.sin(th) * np.cos(ph), np.sin(th) * np.sin(ph), np.cos(th)], -1) @ rot.T
     th_r, ph_r = np.arccos(np.clip(r[:, 2], -1, 1)), np.arctan2(r[:, 1], r[:, 0])
-    a = far_field(fil, 0.5e12, th, ph, HUMID).intensity
-    b = far_field(fil_r, 0.5e12, th_r, ph_r, HUMID).intensity
+    a = far_field(fil, 0.5e12, th, ph, HUMID).magnitude_squared
+    b = far_field(fil_r, 0.5e12, th_r, ph_r, HUMID).magnitude_squared
     assert_allclose(b, a, rtol=1e-9, atol=1e-12 * a.max())
 
 
 def test_sum_is_coherent_and_linear():
     # Superposition: Maxwell's equations are linear (Jackson sec. 9.1).
-    f1, f2 = Filament(0.2), Filament(0.3, start=(0.002, 0, 0), delay=1e-12, weight=-0.5)
+    f1, f2 = Filament(0.2), Filament(0.3, start=(0.002, 0, 0), delay=1e-12, amplitude=-0.5)
     a = far_field([f1, f2], 0.7e12, 0.2, 0.3).cartesian
     b = far_field(f1, 0.7e12, 0.2, 0.3).cartesian + far_field(f2, 0.7e12, 0.2, 0.3).cartesian
     assert_allclose(a, b, rtol=1e-12)
@@ -213,7 +213,7 @@ def test_vacuum_energy_matches_balanis_long_wire():
 def test_sphere_integral_equals_source_space_power(medium):
     # Two independent routes to dW/df: integrating the angular density over the sphere and
     # the source-space double integral with the 8 pi j1(x)/x kernel.
-    fil = Filament(0.6, start=(0.01, 0.02, -0.3), axis=(0.3, 0.0, 1.0), weight=1.3)
+    fil = Filament(0.6, start=(0.01, 0.02, -0.3), axis=(0.3, 0.0, 1.0), amplitude=1.3)
     freq = np.array([0.2e12, 0.9e12])
     assert_allclose(spectral_energy(fil, freq, medium), source_spectral_energy(fil, freq, medium),
                     rtol=1e-8)
@@ -248,9 +248,9 @@ def test_far_field_rejects_bad_input(args, name):
 
 
 def test_far_field_rejects_bad_sources():
-    with pytest.raises(ValueError, match="sources"):
+    with pytest.raises(ValueError, match="filaments"):
         far_field([], 1e12, 0.1, 0.0)
-    with pytest.raises(ValueError, match="sources"):
+    with pytest.raises(ValueError, match="filaments"):
         far_field([Filament(0.1), "x"], 1e12, 0.1, 0.0)
     with pytest.raises(ValueError, match="broadcast"):
         far_field(Filament(0.1), np.ones(3) * 1e12, np.ones(4), 0.0)
@@ -263,7 +263,7 @@ def test_outer_grid_path_matches_pointwise(layout, rng):
     # a phase of P rad is ~1e-16 P, so agreement to 1e-12 needs P << 1e4 (common practice,
     # no source: floating-point rounding of large phases).
     fils = [Filament(0.02, start=(0.001, 0, 0), axis=(0.1, 0.2, 1), delay=1e-12),
-            Filament(0.035, start=(-0.002, 0.001, 0.003), weight=0.5)]
+            Filament(0.035, start=(-0.002, 0.001, 0.003), amplitude=0.5)]
     f = np.array([0.1e12, 0.2e12, 0.3e12])
     t = np.linspace(0.01, 0.5, 5)
     p = np.linspace(0, 2 * np.pi, 4)
@@ -289,7 +289,7 @@ def test_frequency_recurrence_matches_direct_evaluation(rng):
     # Equally spaced frequencies take the rotation-recurrence path of the grid kernel; it
     # must agree with the direct pointwise kernel over many steps (re-seeded every 32).
     fils = [Filament(0.02, start=(0.001, 0, 0), axis=(0.1, 0.2, 1), delay=0.3e-12),
-            Filament(0.03, start=(-0.002, 0.001, 0.003), weight=0.5)]
+            Filament(0.03, start=(-0.002, 0.001, 0.003), amplitude=0.5)]
     f = np.linspace(0.05e12, 0.3e12, 201)
     t = np.linspace(0.0, 1.5, 7)
     p = np.linspace(0, 2 * np.pi, 5)

@@ -19,7 +19,7 @@ def test_axis_is_normalised():
     (dict(length=1.0, axis=(0, 1)), "axis"),
     (dict(length=1.0, start=(0, np.inf, 0)), "start"),
     (dict(length=1.0, delay=np.nan), "delay"),
-    (dict(length=1.0, weight="heavy"), "weight"),
+    (dict(length=1.0, amplitude="heavy"), "amplitude"),
     (dict(length=1.0, profile=([0, 0.5], [1, 1])), "profile z"),
     (dict(length=1.0, profile=([0, 0.7, 0.5, 1.0], [1, 1, 1, 1])), "increasing"),
     (dict(length=1.0, profile=([0, 1.0], [1, np.nan])), "profile w"),

@@ -6,11 +6,12 @@ from numpy.testing import assert_allclose
 from scipy.constants import c, epsilon_0
 
 from thzarray import Filament, Medium, far_field
-from thzarray.farfield import source_spectral_energy
-from thzarray.gain import (Direction, Receiver, array_factor_directivity, array_gain,
-                           band_weights, directivity, target_fields)
-from thzarray.layouts import grid, line, random_aperture, with_delays
-from thzarray.steering import steering_delays
+from thzarray.array.gain import array_factor_directivity, array_gain, directivity
+from thzarray.array.layouts import grid, line, random_aperture, with_delays
+from thzarray.array.steering import steering_delays
+from thzarray.array.targets import Aperture, Direction, target_fields
+from thzarray.base.band import band_weights
+from thzarray.field.energy import source_spectral_energy
 
 HUMID = Medium.air(relative_humidity=0.5)
 BAND = np.linspace(0.2e12, 0.6e12, 7)
@@ -28,7 +29,7 @@ def test_phased_gain_is_n_squared_at_the_steered_target(nx, ny, theta, phi, seed
     # chapter; common practice). Incoherent mean: N |one|^2 (random phases cancel on average).
     lay = grid((nx, ny), 1.3e-3, 0.03)
     target = Direction(theta, phi)
-    g = array_gain(steered(lay, target), target, BAND, medium=HUMID, shots=8, seed=seed)
+    g = array_gain(steered(lay, target), target, BAND, medium=HUMID, trials=8, seed=seed)
     n = nx * ny
     assert_allclose(g.phased_over_single, n**2, rtol=1e-10)
     assert_allclose(g.incoherent_over_single, n, rtol=1e-12)
@@ -41,7 +42,7 @@ def test_incoherent_monte_carlo_within_its_standard_error():
     # (common practice, no source). Seeded; 4 standard errors.
     lay = random_aperture(12, 4e-3, 8e-4, 0.03, seed=2)
     target = Direction(0.16, 0.4)
-    g = array_gain(steered(lay, target), target, BAND, medium=HUMID, shots=3000, seed=11)
+    g = array_gain(steered(lay, target), target, BAND, medium=HUMID, trials=3000, seed=11)
     assert abs(g.incoherent_mc - g.incoherent) < 4 * g.incoherent_mc_error
     assert 0.005 * g.incoherent < g.incoherent_mc_error < 0.05 * g.incoherent
     assert_allclose(g.incoherent_over_single, 12, rtol=1e-12)
@@ -73,7 +74,7 @@ def test_band_weights_are_the_trapezoid_rule():
 def test_receiver_nodes_integrate_its_solid_angle():
     # Solid angle of a disc of radius a seen at distance R on its axis:
     # 2 pi (1 - R / sqrt(R^2 + a^2)) (common geometry, no source).
-    rx = Receiver(0.3, 1.1, 0.04, 0.2)
+    rx = Aperture(0.3, 1.1, 0.04, 0.2)
     th, ph, w = rx.nodes(line(4, 2e-3, 0.05), 1e12, HUMID)
     assert_allclose(w.sum(), 2 * np.pi * (1 - 0.2 / np.hypot(0.2, 0.04)), rtol=1e-12)
     assert_allclose(rx.solid_angle, w.sum(), rtol=1e-12)
@@ -87,7 +88,7 @@ def test_small_receiver_equals_direction_times_solid_angle():
     lay = grid((3, 3), 1.5e-3, 0.03)
     target = Direction(0.2, 0.0)
     lay = steered(lay, target)
-    rx = Receiver(0.2, 0.0, 1e-4, 1.0)
+    rx = Aperture(0.2, 0.0, 1e-4, 1.0)
     e_dir = target_fields(lay, target, BAND, HUMID).energy([f.delay for f in lay])
     e_rx = target_fields(lay, rx, BAND, HUMID).energy([f.delay for f in lay])
     # Pattern varies by ~(k D alpha)^2 ~ 1e-5 over the tiny aperture.
@@ -96,8 +97,8 @@ def test_small_receiver_equals_direction_times_solid_angle():
 
 def test_receiver_gain_below_n_squared():
     lay = grid((4, 4), 1.5e-3, 0.03)
-    rx = Receiver(0.19, 0.0, 0.02, 0.5)
-    g = array_gain(steered(lay, rx), rx, BAND, medium=HUMID, shots=8)
+    rx = Aperture(0.19, 0.0, 0.02, 0.5)
+    g = array_gain(steered(lay, rx), rx, BAND, medium=HUMID, trials=8)
     assert 0.5 * 256 < g.phased_over_single < 256
     assert g.phased <= g.coherent_limit * (1 + 1e-12)
 
@@ -125,7 +126,7 @@ def test_array_factor_directivity_balanis(d_over_lambda, scan):
 
 def test_single_column_directivity_matches_source_space_energy():
     # D = 4 pi (d2W/df dOmega) / (dW/df); the denominator from the independent source-space
-    # double integral (thzarray.farfield.source_spectral_energy, Balanis long wire in vacuum).
+    # double integral (thzarray.field.farfield.source_spectral_energy, Balanis long wire in vacuum).
     fil = Filament(0.01)
     f = 0.4e12
     theta = 0.35
@@ -153,12 +154,12 @@ def test_bad_targets_raise():
     with pytest.raises(ValueError, match=r"theta = .*4\.0.*<= 3\.14159"):
         Direction(4.0, 0.0)
     with pytest.raises(ValueError, match="theta"):
-        Receiver(-0.1, 0.0, 0.01, 1.0)
+        Aperture(-0.1, 0.0, 0.01, 1.0)
     with pytest.raises(ValueError, match="distance"):
-        Receiver(0.1, 0.0, 0.01, 0.005)
+        Aperture(0.1, 0.0, 0.01, 0.005)
     with pytest.raises(ValueError, match="target"):
         array_gain(line(2, 1e-3, 0.02), (0.1, 0.0), BAND)
-    with pytest.raises(ValueError, match="shots"):
-        array_gain(line(2, 1e-3, 0.02), Direction(0.1), BAND, shots=1)
+    with pytest.raises(ValueError, match="trials"):
+        array_gain(line(2, 1e-3, 0.02), Direction(0.1), BAND, trials=1)
     with pytest.raises(ValueError, match="delays"):
         target_fields(line(2, 1e-3, 0.02), Direction(0.1), BAND).energy([0.0, np.nan])

@@ -4,8 +4,8 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
-from thzarray import _kernels
-from thzarray.filament import Filament
+from thzarray.field import _kernels
+from thzarray.source.filament import Filament
 
 
 def _exact_transform(u, breaks, coefs):

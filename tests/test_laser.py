@@ -3,15 +3,30 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 from numpy.testing import assert_allclose
-from scipy.constants import c, electron_volt, hbar, k as k_boltzmann
+from scipy.constants import c, electron_volt, hbar
+from scipy.constants import k as k_boltzmann
 from scipy.integrate import quad, solve_ivp
 
 from thzarray import Filament, Medium, Plasma
-from thzarray.cone import band_cone_angle, cone_angle
-from thzarray.laser import (CLAMPED_INTENSITY, MARBURGER_MIN_POWER_RATIO, N2_AIR,
-                            N2_AIR_SPREAD, collapse_distance, critical_power, electron_density,
-                            focused_beam, focusing_chart, focusing_for_cone, keldysh_parameter,
-                            peak_power, plasma_from_laser, ponderomotive_energy)
+from thzarray.field.cone import band_cone_angle, cone_angle
+from thzarray.inverse.focusing import focusing_chart, focusing_for_cone
+from thzarray.source.ionization import (
+    CLAMPED_INTENSITY,
+    electron_density,
+    keldysh_parameter,
+    ponderomotive_energy,
+)
+from thzarray.source.laser import (
+    MARBURGER_MIN_POWER_RATIO,
+    N2_AIR,
+    N2_AIR_SPREAD,
+    Pulse,
+    collapse_distance,
+    critical_power,
+    focused_beam,
+    peak_power,
+    plasma_from_laser,
+)
 
 LAMBDA = 800e-9
 
@@ -23,12 +38,12 @@ def marburger_zc(ratio, w0, wavelength=LAMBDA):
 
 
 def test_critical_power_marburger():
-    # REFERENCES.md / Marburger (1975): P_cr = 3.77 lambda^2 / (8 pi n0 n2);
+    # docs/references.rst / Marburger (1975): P_cr = 3.77 lambda^2 / (8 pi n0 n2);
     # n2 = 3.2e-19 cm^2/W at 800 nm -> 3.0 GW (computed).
     n2 = 3.2e-19 * 1e-4  # cm^2/W -> m^2/W
     assert N2_AIR == pytest.approx(n2, rel=1e-15)
-    assert N2_AIR_SPREAD == 2.0  # REFERENCES.md: "uncertain by a factor of about 2"
-    # Common practice, no source (REFERENCES.md): clamped intensity ~5e13 W/cm^2 at 800 nm.
+    assert N2_AIR_SPREAD == 2.0  # docs/references.rst: "uncertain by a factor of about 2"
+    # Common practice, no source (docs/references.rst): clamped intensity ~5e13 W/cm^2 at 800 nm.
     assert CLAMPED_INTENSITY == pytest.approx(5e13 * 1e4, rel=1e-15)
     assert_allclose(critical_power(LAMBDA, n2), 3.77 * LAMBDA**2 / (8 * np.pi * n2), rtol=1e-14)
     assert_allclose(critical_power(LAMBDA, n2), 3.0e9, rtol=1e-3)
@@ -37,7 +52,7 @@ def test_critical_power_marburger():
 
 
 def test_collapse_distance_reference_check_and_convention():
-    # REFERENCES.md check (computed): w0 = 5 mm, P/P_cr = 10 -> 15.6 m; with f = 2 m -> 1.77 m.
+    # docs/references.rst check (computed): w0 = 5 mm, P/P_cr = 10 -> 15.6 m; with f = 2 m -> 1.77 m.
     p_cr = critical_power()
     z_ref = marburger_zc(10.0, 5e-3)
     assert round(z_ref, 1) == 15.6
@@ -87,7 +102,7 @@ def test_peak_power_integrates_to_energy():
 
 
 def test_ponderomotive_energy_and_keldysh():
-    # REFERENCES.md (Chen): U_p = 9.33e-14 I[W/cm^2] lambda[um]^2 eV -> 2.99 eV at 5e13
+    # docs/references.rst (Chen): U_p = 9.33e-14 I[W/cm^2] lambda[um]^2 eV -> 2.99 eV at 5e13
     # W/cm^2, 0.8 um (three-digit rule, hence rtol 1e-3).
     up = ponderomotive_energy(5e17, 800e-9) / electron_volt
     assert_allclose(up, 9.33e-14 * 5e13 * 0.8**2, rtol=1e-3)
@@ -117,7 +132,7 @@ def test_electron_density_matches_rate_equation():
 def test_plasma_from_laser_focused():
     # Each step recomputed here: Marburger (lens rule), Self (1983) focus, energy budget.
     energy, fwhm, w0, f = 1e-3, 50e-15, 5e-3, 1.0
-    fil, plasma, est = plasma_from_laser(energy, fwhm, w0, f)
+    fil, plasma, est = plasma_from_laser(Pulse(energy, fwhm, w0, focal_length=f))
     tau = fwhm / (2 * np.sqrt(np.log(2)))
     p = energy / (tau * np.sqrt(np.pi))
     p_cr = 3.77 * LAMBDA**2 / (8 * np.pi * N2_AIR)
@@ -149,18 +164,18 @@ def test_plasma_from_laser_focused():
 def test_plasma_from_laser_collimated_and_notes():
     # Without a lens: onset at z_c; the column ends after one input Rayleigh range or when
     # the energy budget runs out, whichever is first.
-    fil, _, est = plasma_from_laser(1e-3, 50e-15, 5e-3)
+    fil, _, est = plasma_from_laser(Pulse(1e-3, 50e-15, 5e-3))
     assert_allclose(est.onset, est.collapse_distance, rtol=1e-12)
     z_r = np.pi * (5e-3) ** 2 / LAMBDA
     assert_allclose(est.length, min(z_r, est.budget_length), rtol=1e-10)
     assert est.limited_by == ("energy budget" if est.budget_length < z_r else
                               "input Rayleigh range")
-    _, _, big = plasma_from_laser(5e-3, 50e-15, 5e-3, 1.0)
+    _, _, big = plasma_from_laser(Pulse(5e-3, 50e-15, 5e-3, focal_length=1.0))
     assert any("several filaments" in n for n in big.notes)
-    _, _, tight = plasma_from_laser(1e-3, 50e-15, 5e-3, 0.2)
+    _, _, tight = plasma_from_laser(Pulse(1e-3, 50e-15, 5e-3, focal_length=0.2))
     assert any("tight focusing" in n for n in tight.notes)
     with pytest.raises(ValueError, match="P/P_cr"):
-        plasma_from_laser(1e-5, 50e-15, 5e-3, 1.0)
+        plasma_from_laser(Pulse(1e-5, 50e-15, 5e-3, focal_length=1.0))
 
 
 def test_focused_beam_against_q_parameter():
@@ -183,7 +198,7 @@ def test_focusing_chart():
     assert np.all(np.isnan(chart.cone_angle[:, 0]))  # 10 uJ is below P_cr
     for i, fi in enumerate(f):
         for j in (1, 2):
-            _, _, est = plasma_from_laser(energy[j], 50e-15, 5e-3, fi)
+            _, _, est = plasma_from_laser(Pulse(energy[j], 50e-15, 5e-3, focal_length=fi))
             assert_allclose(chart.length[i, j], est.length, rtol=1e-12)
             assert_allclose(chart.onset[i, j], est.onset, rtol=1e-12)
             assert_allclose(chart.cone_angle[i, j], cone_angle(est.length, 0.3e12, medium),
@@ -201,7 +216,7 @@ def test_focusing_for_cone_gives_the_cone():
     energy = np.array([0.5e-3, 1e-3, 2e-3])
     focal, length = focusing_for_cone(target, energy, 0.3e12, medium=medium)
     for e_j, f_j in zip(energy, focal):
-        _, _, est = plasma_from_laser(e_j, 50e-15, 5e-3, f_j)
+        _, _, est = plasma_from_laser(Pulse(e_j, 50e-15, 5e-3, focal_length=f_j))
         assert_allclose(est.length, length, rtol=1e-9)
         assert_allclose(cone_angle(est.length, 0.3e12, medium), target, rtol=1e-8)
     assert np.all(np.diff(focal) < 0)  # more energy: the collapse moves upstream

@@ -8,9 +8,16 @@ from numpy.testing import assert_allclose, assert_array_equal
 from scipy.constants import c
 
 from thzarray import Filament, Medium, far_field
-from thzarray import _array_kernels as ak
-from thzarray import layouts as L
-from thzarray.tables import read_layout, write_layout
+from thzarray.app.tables import layout_from_csv, layout_to_csv, read_layout, write_layout
+from thzarray.array import _kernels as ak
+from thzarray.array import layouts as L
+from thzarray.array.arrayfield import (
+    array_factor,
+    array_far_field,
+    factored_far_field,
+    filament_fields,
+    identical_elements,
+)
 
 HUMID = Medium.air(relative_humidity=0.5)
 
@@ -101,7 +108,7 @@ def test_empty_layout_raises():
     with pytest.raises(ValueError, match="positions"):
         L.from_positions(np.empty((0, 3)), 0.02)
     with pytest.raises(ValueError, match="at least one Filament"):
-        L.array_factor((), 1e12, 0.1, 0.0)
+        array_factor((), 1e12, 0.1, 0.0)
     with pytest.raises(ValueError, match="count"):
         L.line(0, 1e-3, 0.02)
 
@@ -124,9 +131,9 @@ def test_non_finite_delays_raise():
 def test_theta_outside_range_raises():
     lay = L.line(3, 1e-3, 0.02)
     with pytest.raises(ValueError, match=r"theta .*<= 3\.14"):
-        L.array_factor(lay, 1e12, 3.5, 0.0)
+        array_factor(lay, 1e12, 3.5, 0.0)
     with pytest.raises(ValueError, match="theta"):
-        L.array_factor(lay, 1e12, -0.1, 0.0)
+        array_factor(lay, 1e12, -0.1, 0.0)
 
 
 # --- tables -------------------------------------------------------------------------------------
@@ -135,9 +142,9 @@ def test_csv_round_trip_is_exact(tmp_path):
     lay = L.staggered(L.random_aperture(9, 4e-3, 5e-4, 0.0213, seed=3,
                                         delay=np.linspace(0, 1.234567e-12, 9)),
                       np.linspace(0, 1e-3, 9), medium=HUMID)
-    text = L.layout_to_csv(lay)
-    assert text.splitlines()[0] == "x_m,y_m,z_m,axis_x,axis_y,axis_z,length_m,delay_s,weight"
-    assert L.layout_from_csv(text) == lay
+    text = layout_to_csv(lay)
+    assert text.splitlines()[0] == "x_m,y_m,z_m,axis_x,axis_y,axis_z,length_m,delay_s,amplitude"
+    assert layout_from_csv(text) == lay
     path = tmp_path / "layout.csv"
     write_layout(path, lay)
     assert read_layout(path) == lay
@@ -156,17 +163,17 @@ def test_write_layout_refuses_to_overwrite(tmp_path):
 
 
 def test_csv_errors_name_line_and_column():
-    good = L.layout_to_csv(L.line(2, 1e-3, 0.02))
+    good = layout_to_csv(L.line(2, 1e-3, 0.02))
     with pytest.raises(ValueError, match="header"):
-        L.layout_from_csv(good.replace("delay_s", "delay_ps"))
+        layout_from_csv(good.replace("delay_s", "delay_ps"))
     bad = good.splitlines()
     bad[2] = bad[2].replace("0.02", "abc")
     with pytest.raises(ValueError, match=r"line 3, length_m = 'abc'"):
-        L.layout_from_csv("\n".join(bad))
+        layout_from_csv("\n".join(bad))
     with pytest.raises(ValueError, match="no rows"):
-        L.layout_from_csv(good.splitlines()[0])
+        layout_from_csv(good.splitlines()[0])
     with pytest.raises(ValueError, match="profile"):
-        L.layout_to_csv(L.line(2, 1e-3, 0.02, profile=lambda s: 1 + s))
+        layout_to_csv(L.line(2, 1e-3, 0.02, profile=lambda s: 1 + s))
 
 
 # --- array factor and the factored sum ------------------------------------------------------------
@@ -178,7 +185,7 @@ def test_uniform_linear_array_factor_balanis():
     n, d, f, tau = 8, 0.7e-3, 0.3e12, 0.4e-12
     lay = L.line(n, d, 0.02, delay=tau * np.arange(n))
     theta = np.linspace(0.0, np.pi, 721)
-    af = L.array_factor(lay, f, theta, 0.0, HUMID)
+    af = array_factor(lay, f, theta, 0.0, HUMID)
     k = 2 * np.pi * f * HUMID.n_thz / c
     psi = -k * d * np.sin(theta) + 2 * np.pi * f * tau
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -190,22 +197,22 @@ def test_uniform_linear_array_factor_balanis():
 def test_array_factor_kernels_match_numpy_twins(rng):
     pos = rng.uniform(-5e-3, 5e-3, (13, 3))
     lay = L.from_positions(pos, 0.02, delay=rng.uniform(0, 3e-12, 13),
-                           weight=rng.uniform(0.5, 1.5, 13))
+                           amplitude=rng.uniform(0.5, 1.5, 13))
     freq = np.linspace(0.1e12, 1.0e12, 7)
     theta = rng.uniform(0, np.pi, (5, 1))
     phi = rng.uniform(0, 2 * np.pi, 4)
-    grid_c = L.array_factor(lay, freq[:, None, None], theta, phi, HUMID)
-    grid_n = L.array_factor(lay, freq[:, None, None], theta, phi, HUMID, compiled=False)
+    grid_c = array_factor(lay, freq[:, None, None], theta, phi, HUMID)
+    grid_n = array_factor(lay, freq[:, None, None], theta, phi, HUMID, compiled=False)
     assert_allclose(grid_c, grid_n, rtol=1e-12, atol=1e-12 * len(lay))
     uneven = np.array([0.1e12, 0.13e12, 0.5e12])
-    assert_allclose(L.array_factor(lay, uneven[:, None, None], theta, phi, HUMID),
-                    L.array_factor(lay, uneven[:, None, None], theta, phi, HUMID, compiled=False),
+    assert_allclose(array_factor(lay, uneven[:, None, None], theta, phi, HUMID),
+                    array_factor(lay, uneven[:, None, None], theta, phi, HUMID, compiled=False),
                     rtol=1e-12, atol=1e-12 * len(lay))
     # Point mode (frequency varying with direction) equals the grid mode.
     fpts = freq[:, None, None] + 0 * theta
-    assert_allclose(L.array_factor(lay, fpts, theta, phi, HUMID), grid_c, rtol=1e-11,
+    assert_allclose(array_factor(lay, fpts, theta, phi, HUMID), grid_c, rtol=1e-11,
                     atol=1e-11 * len(lay))
-    assert_allclose(L.array_factor(lay, fpts, theta, phi, HUMID, compiled=False), grid_c,
+    assert_allclose(array_factor(lay, fpts, theta, phi, HUMID, compiled=False), grid_c,
                     rtol=1e-12, atol=1e-12 * len(lay))
 
 
@@ -225,12 +232,12 @@ def test_factored_sum_equals_general_sum(params):
         pos[:, 2] = 0.0
     axis = tuple(rng.normal(size=3) + [0, 0, 3])
     lay = L.from_positions(pos, length, axis=axis, delay=rng.uniform(0, 2e-12, n),
-                           weight=rng.uniform(0.2, 2.0, n))
+                           amplitude=rng.uniform(0.2, 2.0, n))
     freq = np.linspace(0.1e12, 0.9e12, 5)
     theta = np.linspace(0, np.pi, 9)
     phi = np.linspace(0, 2 * np.pi, 6)
     sub = (freq[:, None, None], theta[:, None], phi)
-    a = L.factored_far_field(lay, *sub, HUMID)
+    a = factored_far_field(lay, *sub, HUMID)
     b = far_field(lay, *sub, HUMID)
     scale = np.abs(b.e_theta).max() + np.abs(b.e_phi).max()
     assert_allclose(a.e_theta, b.e_theta, rtol=0, atol=1e-12 * scale)
@@ -240,30 +247,30 @@ def test_factored_sum_equals_general_sum(params):
 def test_factored_sum_with_a_shared_profile():
     prof = lambda s: np.exp(-((s - 0.01) / 0.006) ** 2)  # noqa: E731
     lay = L.grid((2, 2), 1e-3, 0.02, profile=prof)
-    assert L.identical_elements(lay)
+    assert identical_elements(lay)
     sub = (np.array([0.2e12, 0.5e12])[:, None], np.linspace(0.01, 1.0, 7), 0.3)
-    a = L.factored_far_field(lay, *sub)
+    a = factored_far_field(lay, *sub)
     b = far_field(lay, *sub)
     assert_allclose(a.e_theta, b.e_theta, rtol=1e-12, atol=1e-12 * np.abs(b.e_theta).max())
 
 
 def test_general_path_for_mixed_columns():
     lay = (Filament(0.02, (0, 0, 0)), Filament(0.03, (1e-3, 0, 0)))
-    assert not L.identical_elements(lay)
+    assert not identical_elements(lay)
     with pytest.raises(ValueError, match="identical"):
-        L.factored_far_field(lay, 1e12, 0.1, 0.0)
+        factored_far_field(lay, 1e12, 0.1, 0.0)
     sub = (0.4e12, np.linspace(0, 1, 5), 0.2)
-    assert_array_equal(L.array_far_field(lay, *sub).e_theta, far_field(lay, *sub).e_theta)
+    assert_array_equal(array_far_field(lay, *sub).e_theta, far_field(lay, *sub).e_theta)
 
 
 @settings(max_examples=20)
 @given(st.floats(1e-3, 0.3), st.floats(-1e-12, 1e-12), st.floats(0.1, 3.0))
-def test_one_element_array_equals_its_element(length, delay, weight):
+def test_one_element_array_equals_its_element(length, delay, amplitude):
     # Common practice, no source: an array of one element is that element.
-    fil = Filament(length, start=(1e-3, -2e-3, 5e-3), delay=delay, weight=weight)
+    fil = Filament(length, start=(1e-3, -2e-3, 5e-3), delay=delay, amplitude=amplitude)
     sub = (np.array([0.2e12, 0.7e12])[:, None], np.linspace(0, np.pi, 11), 0.7)
     ref = far_field(fil, *sub, HUMID)
-    for got in (L.array_far_field((fil,), *sub, HUMID), L.factored_far_field((fil,), *sub, HUMID)):
+    for got in (array_far_field((fil,), *sub, HUMID), factored_far_field((fil,), *sub, HUMID)):
         assert_allclose(got.e_theta, ref.e_theta, rtol=1e-12,
                         atol=1e-13 * np.abs(ref.e_theta).max())
 
@@ -272,7 +279,7 @@ def test_filament_fields_sum_to_the_layout_field(rng):
     lay = L.from_positions(rng.uniform(-3e-3, 3e-3, (4, 3)), [0.02, 0.025, 0.03, 0.02],
                            delay=rng.uniform(0, 1e-12, 4))
     freq = np.array([0.2e12, 0.6e12])
-    g = L.filament_fields(lay, freq[:, None], np.array([0.1, 0.3]), 0.4, HUMID)
+    g = filament_fields(lay, freq[:, None], np.array([0.1, 0.3]), 0.4, HUMID)
     tot = np.sum(g * np.exp(2j * np.pi * freq[None, :, None, None]
                             * np.array([f.delay for f in lay])[:, None, None, None]), axis=0)
     ref = far_field(lay, freq[:, None], np.array([0.1, 0.3]), 0.4, HUMID)

@@ -3,9 +3,9 @@ import pytest
 from numpy.testing import assert_allclose
 
 from thzarray import Medium, far_field
-from thzarray.layouts import grid, with_delays
-from thzarray.maps import frequency_map, sky_grid, sky_map
-from thzarray.steering import steering_delays
+from thzarray.array.layouts import grid, with_delays
+from thzarray.array.maps import frequency_map, sky_grid, sky_map
+from thzarray.array.steering import steering_delays
 
 HUMID = Medium.air(relative_humidity=0.5)
 
@@ -30,7 +30,7 @@ def test_sky_map_peaks_near_steered_target_on_the_cone():
     # grid step (common practice, no source).
     lay = grid((4, 4), 1.5e-3, 0.03)
     freq = np.linspace(0.3e12, 0.4e12, 3)
-    from thzarray.cone import band_cone_angle
+    from thzarray.field.cone import band_cone_angle
     cone = band_cone_angle(0.03, freq, medium=HUMID)
     lay = with_delays(lay, steering_delays(lay, cone, 0.5, HUMID))
     theta = np.linspace(0, 0.4, 201)

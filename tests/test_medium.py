@@ -2,13 +2,19 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
-from thzarray.medium import (Medium, ciddor_group_index, ciddor_index, p453_refractivity,
-                             p453_saturation_pressure, vapour_density_to_pressure)
+from thzarray.air.indices import (
+    ciddor_group_index,
+    ciddor_index,
+    p453_refractivity,
+    p453_saturation_pressure,
+    vapour_density_to_pressure,
+)
+from thzarray.air.medium import AirConditions, Medium
 
 
 def test_ciddor_standard_air_800nm():
     # Ciddor, Appl. Opt. 35, 1566 (1996); standard air 15 C, 101325 Pa, dry, 450 ppm CO2.
-    # Values computed from Ciddor's formula (../shared/REFERENCES.md): n - 1 = 2.75048e-4,
+    # Values computed from Ciddor's formula (docs/references.rst): n - 1 = 2.75048e-4,
     # n_g - 1 = 2.79970e-4.
     assert_allclose(ciddor_index(800e-9) - 1, 2.75048e-4, rtol=2e-6)
     assert_allclose(ciddor_group_index(800e-9) - 1, 2.79970e-4, rtol=2e-6)
@@ -30,21 +36,22 @@ def test_group_index_equals_numerical_derivative(rh):
 
 
 def test_p453_standard_atmosphere():
-    # ITU-R P.453: N = 77.6 Pd/T + 72 e/T + 3.75e5 e/T^2, e = rho T / 216.7.
-    # Standard atmosphere 1013.25 hPa, 15 C, 7.5 g/m^3 -> N = 317.7 (REFERENCES.md, computed).
-    e = vapour_density_to_pressure(7.5, 15.0)
-    assert_allclose(e, 7.5 * 288.15 / 216.7, rtol=1e-12)
-    assert_allclose(p453_refractivity(15.0, 1013.25 - e, e), 317.7, atol=0.05)
+    # ITU-R P.453: N = 77.6 Pd/T + 72 e/T + 3.75e5 e/T^2 (hPa, K), e = rho T / 216.7
+    # (rho in g/m^3). Standard atmosphere 1013.25 hPa, 15 C, 7.5 g/m^3 -> N = 317.7
+    # (docs/references.rst, computed). The functions take and return SI (Pa, kg/m^3).
+    e = vapour_density_to_pressure(7.5e-3, 15.0)
+    assert_allclose(e, 100 * 7.5 * 288.15 / 216.7, rtol=1e-12)
+    assert_allclose(p453_refractivity(15.0, 101325.0 - e, e), 317.7, atol=0.05)
 
 
 def test_p453_saturation_pressure_20c():
     # Common practice, no source: saturation vapour pressure over water at 20 C is about
     # 23.4 hPa (steam tables); P.453's Magnus-type formula agrees to 0.5 %.
-    assert_allclose(p453_saturation_pressure(20.0), 23.39, rtol=5e-3)
+    assert_allclose(p453_saturation_pressure(20.0), 2339.0, rtol=5e-3)
 
 
 def test_medium_air_dry_uses_dry_term_only():
-    m = Medium.air(temperature_c=15.0, pressure_hpa=1013.25, relative_humidity=0.0)
+    m = Medium.air(temperature_c=15.0, pressure=101325.0, relative_humidity=0.0)
     # ITU-R P.453 dry term only.
     assert_allclose((m.n_thz - 1) * 1e6, 77.6 * 1013.25 / 288.15, rtol=1e-12)
     assert_allclose(m.n_group, ciddor_group_index(800e-9), rtol=1e-15)
@@ -52,11 +59,11 @@ def test_medium_air_dry_uses_dry_term_only():
 
 
 def test_humid_air_cherenkov_and_coherence_lengths():
-    # REFERENCES.md (computed): in the standard atmosphere (7.5 g/m^3) n_T > n_g and the
+    # docs/references.rst (computed): in the standard atmosphere (7.5 g/m^3) n_T > n_g and the
     # Cherenkov angle arccos(n_g/n_T) is about 0.50 deg; coherence length
     # lambda / (2|n_T - n_g|) about 13 m at 0.3 THz (humid) and about 70 m (dry).
-    e = vapour_density_to_pressure(7.5, 15.0)
-    rh = e / p453_saturation_pressure(15.0, 1013.25)
+    e = vapour_density_to_pressure(7.5e-3, 15.0)
+    rh = e / p453_saturation_pressure(15.0, 101325.0)
     humid = Medium.air(relative_humidity=rh)
     assert humid.n_thz > humid.n_group
     assert_allclose(np.degrees(np.arccos(humid.n_group / humid.n_thz)), 0.50, atol=0.01)
@@ -66,7 +73,23 @@ def test_humid_air_cherenkov_and_coherence_lengths():
 
 def test_vacuum():
     assert Medium.vacuum() == Medium(1.0, 1.0)
+    assert Medium.vacuum().is_vacuum and not Medium.air().is_vacuum
     assert np.isinf(Medium.vacuum().coherence_length(1e12))
+
+
+def test_air_keeps_its_conditions_and_changes_humidity():
+    # The same object carries the indices and the conditions they came from.
+    m = Medium.air(temperature_c=20.0, pressure=100500.0, relative_humidity=0.3,
+                   laser_wavelength=790e-9)
+    assert isinstance(m.conditions, AirConditions)
+    assert_allclose(m.conditions.relative_humidity, 0.3, rtol=1e-14)
+    assert m.laser_wavelength == 790e-9
+    wet = m.with_humidity(0.9)
+    ref = Medium.air(temperature_c=20.0, pressure=100500.0, relative_humidity=0.9,
+                     laser_wavelength=790e-9)
+    assert wet == ref and wet.n_thz > m.n_thz
+    with pytest.raises(ValueError, match="air conditions"):
+        Medium(1.0003, 1.0003).with_humidity(0.5)
 
 
 @pytest.mark.parametrize("kwargs, name", [
@@ -82,8 +105,8 @@ def test_medium_rejects_bad_indices(kwargs, name):
 @pytest.mark.parametrize("kwargs, name", [
     (dict(relative_humidity=1.5), "relative_humidity"),
     (dict(temperature_c=500.0), "temperature_c"),
-    (dict(pressure_hpa=-3.0), "pressure_hpa"),
-    (dict(laser_wavelength_m=10e-6), "wavelength"),
+    (dict(pressure=-3.0), "pressure"),
+    (dict(laser_wavelength=10e-6), "wavelength"),
 ])
 def test_air_rejects_out_of_range(kwargs, name):
     with pytest.raises(ValueError, match=name) as exc:

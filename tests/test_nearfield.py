@@ -6,12 +6,17 @@ from scipy.integrate import quad
 from scipy.special import roots_legendre, spherical_jn
 
 from thzarray import Filament, Medium, Plasma, far_field
-from thzarray import _near_kernels
-from thzarray.farfield import spectral_energy
-from thzarray.nearfield import (MIN_DISTANCE_WAVELENGTHS, field_at, fields_at,
-                                magnetic_field_at, spectral_fluence)
-from thzarray.surfaces import (far_field_departure, line_scan, plane_scan, sphere_scan,
-                               trapezoid_weights)
+from thzarray.base.band import trapezoid_weights
+from thzarray.field import _near_kernels
+from thzarray.field.energy import spectral_energy
+from thzarray.field.nearfield import (
+    MIN_DISTANCE_WAVELENGTHS,
+    field_at,
+    fields_at,
+    magnetic_field_at,
+    spectral_fluence,
+)
+from thzarray.field.surfaces import far_field_departure, line_scan, plane_scan, sphere_scan
 
 HUMID = Medium.air(relative_humidity=0.5)
 
@@ -89,7 +94,7 @@ def quad_field(fil, freq, x, medium):
             re = quad(lambda s: vec(s)[comp].real, lo, hi, **opts)[0]
             im = quad(lambda s: vec(s)[comp].imag, lo, hi, **opts)[0]
             out[comp] += re + 1j * im
-    return 1j * w * mu_0 / (4 * np.pi) * fil.weight * np.exp(1j * w * fil.delay) * out
+    return 1j * w * mu_0 / (4 * np.pi) * fil.amplitude * np.exp(1j * w * fil.delay) * out
 
 
 QUAD_CASES = [
@@ -174,7 +179,7 @@ def test_far_field_limit():
     freq = 0.3e12
     fils = [Filament(0.01, start=(0.001, 0.0, 0.0), delay=0.0),
             Filament(0.008, start=(-0.002, 0.001, 0.002), axis=(0.1, 0.0, 1.0), delay=1e-12,
-                     weight=0.6)]
+                     amplitude=0.6)]
     theta = np.linspace(0.05, 3.0, 9)
     phi = 0.3
     radius = 1e5
@@ -192,11 +197,11 @@ def test_far_field_limit():
 @pytest.mark.parametrize("radius", [0.05, 3.0])
 def test_poynting_flux_through_sphere_equals_spectral_energy(radius):
     """Energy conservation (Poynting's theorem): 2 Re(E x H*) through any sphere enclosing
-    the sources equals the far-field total dW/df of thzarray.farfield.spectral_energy."""
+    the sources equals the far-field total dW/df of thzarray.field.farfield.spectral_energy."""
     medium = Medium.air(relative_humidity=0.3)
     freq = 0.2e12
     fils = [Filament(0.012, start=(0.001, 0.0, -0.006), axis=(0.2, 0.0, 1.0)),
-            Filament(0.01, start=(-0.002, 0.002, -0.005), delay=2e-12, weight=0.5)]
+            Filament(0.01, start=(-0.002, 0.002, -0.005), delay=2e-12, amplitude=0.5)]
     nodes, wts = roots_legendre(16)
     edges = np.linspace(-1, 1, 25)
     half = 0.5 * np.diff(edges)
@@ -215,7 +220,7 @@ def test_poynting_flux_through_sphere_equals_spectral_energy(radius):
 def test_compiled_matches_numpy_twin(rng):
     fils = [Filament(0.2, start=(0.0, 0.01, 0.0), axis=(0.1, 0.0, 1.0), delay=1e-12),
             Filament(0.15, start=(0.01, 0.0, 0.02), profile=lambda s: np.sin(np.pi * s / 0.15)),
-            Filament(0.1, start=(-0.01, 0.0, 0.0), weight=-0.4,
+            Filament(0.1, start=(-0.01, 0.0, 0.0), amplitude=-0.4,
                      profile=(np.array([0.0, 0.04, 0.1]), np.array([0.5, 1.0, 0.2])))]
     pts = rng.normal(size=(6, 3)) * 0.2 + np.array([0.0, 0.0, 0.1])
     freq = np.array([0.05e12, 0.4e12])[:, None]
@@ -275,7 +280,7 @@ def test_too_close_raises():
 def test_bad_inputs(kwargs, match):
     with pytest.raises(ValueError, match=match):
         field_at(Filament(0.1), **kwargs)
-    with pytest.raises(ValueError, match="sources"):
+    with pytest.raises(ValueError, match="filaments"):
         field_at([], 1e12, [0.1, 0.0, 0.0])
 
 
@@ -319,7 +324,7 @@ def test_far_field_departure_of_a_short_column():
 
 @pytest.mark.slow
 def test_long_column_reaches_far_field_well_inside_fraunhofer_distance():
-    """Finite-distance regions (REFERENCES.md, derived): near the cone the quadratic phase is
+    """Finite-distance regions (docs/references.rst, derived): near the cone the quadratic phase is
     k z^2 sin^2(theta)/(2R), so the pattern settles at a few L, far inside 2 L^2/lambda."""
     freq = 0.3e12
     lam = c / freq

@@ -5,7 +5,7 @@ from scipy.constants import c, e, epsilon_0, m_e
 from scipy.integrate import solve_ivp
 from scipy.optimize import minimize_scalar
 
-from thzarray.plasma import Plasma, fwhm_to_gaussian_tau
+from thzarray.source.plasma import Plasma, fwhm_to_gaussian_tau
 
 
 def test_plasma_frequency_nrl():
@@ -15,7 +15,7 @@ def test_plasma_frequency_nrl():
 
 
 def test_response_peak():
-    # |1/(w_p^2 - w^2 - i nu w)|^2 peaks at sqrt(w_p^2 - nu^2/2) (REFERENCES.md, from the
+    # |1/(w_p^2 - w^2 - i nu w)|^2 peaks at sqrt(w_p^2 - nu^2/2) (docs/references.rst, from the
     # formula); checked here by numerical maximisation.
     p = Plasma(electron_density=1e22, collision_rate=3e12)
     res = minimize_scalar(lambda f: -abs(p.response(f)) ** 2, bounds=(1e11, 2e12),

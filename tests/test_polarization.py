@@ -2,12 +2,18 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
-from thzarray import FarField, Filament, Medium, degree_of_radial_polarization, far_field
-from thzarray import polarization_map
+from thzarray import (
+    FarField,
+    Filament,
+    Medium,
+    degree_of_radial_polarization,
+    far_field,
+    polarization_map,
+)
 
 
 def test_single_filament_is_radially_polarized_any_axis(rng):
-    # REFERENCES.md: a line current radiates along theta-hat about its own axis, for any axis.
+    # docs/references.rst: a line current radiates along theta-hat about its own axis, for any axis.
     axis = rng.normal(size=3)
     fil = Filament(0.3, axis=axis)
     th = np.linspace(0.05, 3.0, 30)[:, None]

@@ -1,6 +1,3 @@
-import doctest
-import pathlib
-import re
 
 import numpy as np
 import pytest
@@ -11,10 +8,11 @@ from scipy.constants import c
 from scipy.optimize import brentq, minimize_scalar
 
 from thzarray import Filament, Medium
-from thzarray.gain import Direction, Receiver, target_fields
-from thzarray.layouts import from_positions, grid, line, with_delays
-from thzarray.steering import (ConeNullWarning, cone_level, design_steering,
-                               phase_only_delays, squint, steering_delays, steering_report)
+from thzarray.array.beam import ConeNullWarning, steering_report
+from thzarray.array.designer import design_steering
+from thzarray.array.layouts import from_positions, grid, line, with_delays
+from thzarray.array.steering import cone_level, phase_only_delays, squint, steering_delays
+from thzarray.array.targets import Aperture, Direction, target_fields
 
 HUMID = Medium.air(relative_humidity=0.5)
 BAND = np.linspace(0.2e12, 0.6e12, 5)
@@ -25,7 +23,7 @@ def steer(layout, theta, phi, medium=HUMID):
 
 
 def pattern_closed_form(theta, length, f, medium):
-    # REFERENCES.md (Jackson 9.1-9.2): one column along z radiates
+    # docs/references.rst (Jackson 9.1-9.2): one column along z radiates
     # sin^2(theta) sin^2(X) / (K - n_T cos theta)^2, X = (w L / 2c)(K - n_T cos theta).
     den = medium.n_group - medium.n_thz * np.cos(theta)
     x = np.pi * f * length / c * den
@@ -36,7 +34,7 @@ def pattern_closed_form(theta, length, f, medium):
 
 @pytest.mark.parametrize("theta0", [0.05, 0.3, 0.9, 1.4])
 def test_two_element_true_time_delay(theta0):
-    # Balanis, arrays chapter / REFERENCES.md: sin(theta0) = c dtau / (n_T d).
+    # Balanis, arrays chapter / docs/references.rst: sin(theta0) = c dtau / (n_T d).
     d = 1.7e-3
     delays = steering_delays(line(2, d, 0.02), theta0, 0.0, HUMID)
     dtau = delays[1] - delays[0]
@@ -52,7 +50,7 @@ def test_true_time_delays_phase_every_frequency(n, seed, theta, phi):
     # chapter; common practice).
     rng = np.random.default_rng(seed)
     pos = rng.uniform(-4e-3, 4e-3, (n, 3))
-    lay = steer(from_positions(pos, 0.02, weight=rng.uniform(0.5, 2, n)), theta, phi)
+    lay = steer(from_positions(pos, 0.02, amplitude=rng.uniform(0.5, 2, n)), theta, phi)
     rep = squint(lay, theta, phi, np.array([0.1e12, 0.45e12, 1e12]), HUMID)
     assert_allclose(rep.coherence, 1.0, rtol=1e-11)
     assert_allclose(rep.target_level, 1.0, rtol=1e-11)
@@ -63,7 +61,7 @@ def test_true_time_delays_phase_every_frequency(n, seed, theta, phi):
 def test_steering_aligns_columns_of_different_length_and_profile():
     # Emission centres aligned: uniform and symmetric-profile columns of different lengths,
     # all seen within their main lobe (sinc > 0), arrive in phase: the energy reaches the
-    # Cauchy-Schwarz limit (sum |g_n|)^2 (derived; see thzarray.steering).
+    # Cauchy-Schwarz limit (sum |g_n|)^2 (derived; see thzarray.array.steering).
     sym = lambda length: (lambda s: np.sin(np.pi * s / length) ** 2)  # noqa: E731
     lay = (Filament(0.02, (0, 0, 0)), Filament(0.025, (1.5e-3, 0, 0), profile=sym(0.025)),
            Filament(0.03, (0, 1.5e-3, 1e-3)), Filament(0.022, (1.5e-3, 1.5e-3, 0),
@@ -76,7 +74,7 @@ def test_steering_aligns_columns_of_different_length_and_profile():
 
 def test_profile_centroid_enters_the_delays():
     # A linear ramp w(s) = s / L has its centroid at 2L/3 (int s^2 ds / int s ds), a uniform
-    # column at L/2; the delay difference follows the true-time rule of thzarray.steering.
+    # column at L/2; the delay difference follows the true-time rule of thzarray.array.steering.
     length, d, theta = 0.03, 2e-3, 0.2
     lay = (Filament(length, (0, 0, 0)),
            Filament(length, (d, 0, 0), profile=([0.0, length], [0.0, 1.0])))
@@ -139,7 +137,7 @@ def test_cone_level_matches_closed_form(theta):
 
 
 def test_on_axis_target_warns_about_the_null():
-    # One column's cone is hollow: sin^2(theta) = 0 on its axis (REFERENCES.md), and phasing
+    # One column's cone is hollow: sin^2(theta) = 0 on its axis (docs/references.rst), and phasing
     # multiplies the element pattern, so nothing reaches the axis.
     lay = grid((2, 2), 1.5e-3, 0.03)
     theta, phi = np.linspace(0, 0.4, 41), np.linspace(0, 2 * np.pi, 48, endpoint=False)
@@ -180,7 +178,7 @@ def test_broadside_line_side_lobe_and_beam_width():
     # Balanis, arrays chapter: uniform linear array |AF| = |sin(N psi/2) / (N sin(psi/2))|;
     # peak side lobe and half-power width computed here from that closed form. Columns are
     # short (0.05 lambda) so the element is nearly a dipole; along the theta cut the width is
-    # set by the element pattern of REFERENCES.md.
+    # set by the element pattern of docs/references.rst.
     n, f = 10, 0.3e12
     lam = c / (f * HUMID.n_thz)
     lay = line(n, 0.5 * lam, 0.05 * c / f)
@@ -214,7 +212,7 @@ def test_broadside_line_side_lobe_and_beam_width():
 
 def test_energy_gradient_matches_finite_differences(rng):
     lay = grid((3, 2), 1.4e-3, 0.03)
-    tf = target_fields(lay, Receiver(0.17, 0.3, 6e-3, 0.3), BAND, HUMID)
+    tf = target_fields(lay, Aperture(0.17, 0.3, 6e-3, 0.3), BAND, HUMID)
     delays = rng.uniform(0, 3e-12, 6)
     e, grad = tf.energy_and_gradient(delays)
     assert_allclose(e, tf.energy(delays), rtol=1e-13)
@@ -288,23 +286,3 @@ def test_bad_inputs_raise():
         steering_delays((), 0.1, 0.0)
     with pytest.raises(ValueError, match="target"):
         steering_report(lay, 0.1, BAND)
-
-
-# --- the README's worked example ------------------------------------------------------------------
-
-def readme_example():
-    text = (pathlib.Path(__file__).parents[1] / "README.md").read_text(encoding="utf-8")
-    section = re.search(r"^## Arrays: steering, gain and tolerances\n(.*?)^## ", text,
-                        re.S | re.M).group(1)
-    return re.search(r"```python\n(.*?)```", section, re.S).group(1)
-
-
-@pytest.mark.slow
-def test_readme_example_prints_what_it_says():
-    # Every number the README's arrays section prints comes from running its code block.
-    parser = doctest.DocTestParser()
-    test = parser.get_doctest(readme_example(), {}, "README arrays", "README.md", 0)
-    runner = doctest.DocTestRunner(optionflags=doctest.NORMALIZE_WHITESPACE)
-    runner.run(test)
-    result = runner.summarize(verbose=False)
-    assert result.failed == 0 and result.attempted > 10

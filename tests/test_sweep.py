@@ -16,11 +16,11 @@ from numpy.testing import assert_allclose, assert_array_equal
 from scipy.constants import c, epsilon_0, mu_0
 from scipy.special import sici
 
-from thzarray import sweep as sw
-from thzarray.cone import cone_angle
-from thzarray.design import DesignError, parse_design
-from thzarray.farfield import far_field
-from thzarray.output import OutputExists
+from thzarray.app import sweep as sw
+from thzarray.app.design import DesignError, parse_design
+from thzarray.app.output import OutputExists
+from thzarray.field.cone import cone_angle
+from thzarray.field.farfield import far_field
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -146,7 +146,7 @@ def test_serial_results_are_labelled_by_their_parameters(tmp_path):
             length = float(ds["filaments[*].length"][i])
             delay = float(ds["filaments[1].delay"][j])
             fils = [type(f)(length, start=f.start, axis=f.axis, delay=d)
-                    for f, d in zip(base.sources, (0.0, delay))]
+                    for f, d in zip(base.filaments, (0.0, delay))]
             ff = far_field(fils, g.freq[:, None, None], g.theta[:, None], g.phi, base.medium)
             # Same arithmetic on the same inputs: equal to the last bit.
             assert_array_equal(ds["cut"][i, j].values, ff.energy_density.mean(axis=2))
@@ -218,7 +218,7 @@ def test_jitter_of_a_pair_depends_on_the_seed(tmp_path):
     g = base.grid
     length = float(ds["filaments[*].length"][1])
     fils = [type(f)(length, start=f.start, axis=f.axis, delay=float(d))
-            for f, d in zip(base.sources, d5)]
+            for f, d in zip(base.filaments, d5)]
     ff = far_field(fils, g.freq[:, None, None], g.theta[:, None], g.phi, base.medium)
     assert_array_equal(jit[1, 0, 0].values, ff.energy_density.mean(axis=2))
 
@@ -282,7 +282,7 @@ def test_unreachable_scheduler_and_bad_worker_count(tmp_path):
 
 KILLER = """\
 import os, signal, sys
-from thzarray import sweep as sw
+from thzarray.app import sweep as sw
 
 calls = 0
 
@@ -362,7 +362,7 @@ def test_progress_bar_stays_off_when_not_a_terminal(tmp_path, capfd):
 def test_a_failing_task_names_its_parameters(tmp_path):
     @sw.register_measure("fussy")
     def fussy(design, seed):
-        if design.sources[0].length > 0.12:
+        if design.filaments[0].length > 0.12:
             raise ValueError("length = too long; allowed: <= 12 cm")
         return sw.measure_cut(design, seed)
 
@@ -423,7 +423,7 @@ BAD = [
     ('design = "pair.toml"', 'design = "nowhere.toml"', "cannot be read"),
     ('"filaments[*].length" = ["5 cm", "10 cm", "15 cm"]',
      '"filaments[*].length" = { start = "1 cm", stop = "1 m", points = 500 }\n'
-     '"filaments[0].weight" = { start = 0.5, stop = 1.0, points = 100 }',
+     '"filaments[0].amplitude" = { start = 0.5, stop = 1.0, points = 100 }',
      "sweep: 300000 tasks is too many; allowed: at most 100000"),
 ]
 
@@ -498,7 +498,7 @@ cut = {}
     assert ds["layout.count"].dtype == np.int64 and ds["layout.count"].attrs["units"] == "1"
     base = parse_design(tomllib.loads(PAIR))
     g = base.grid
-    one = far_field(type(base.sources[0])(0.1), g.freq[:, None, None], g.theta[:, None], g.phi)
+    one = far_field(type(base.filaments[0])(0.1), g.freq[:, None, None], g.theta[:, None], g.phi)
     k = 2 * np.pi * g.freq[:, None, None] / c
     for j, d in enumerate(ds["layout.spacing"].values):
         # Balanis, Antenna Theory (4th ed.), sec. 6.2: two equal in-phase elements at +-d/2

@@ -3,9 +3,10 @@ from dataclasses import replace
 
 from numpy.testing import assert_allclose
 
-from thzarray import jobs
-from thzarray.design import load_design
-from thzarray.sweep import parse_sweep, run_serial
+from thzarray.app import jobs
+from thzarray.app.design import load_design
+from thzarray.app.sweep import parse_sweep, run_serial
+
 
 def test_tolerance_measure_equals_direct_monte_carlo(tmp_path, array_design):
     path = array_design("d")
@@ -21,7 +22,7 @@ def test_tolerance_measure_equals_direct_monte_carlo(tmp_path, array_design):
             t, _ = jobs.tolerance_study(d)
             got = ds["gain_mean"].isel({"tolerance.timing_jitter": i}).sel(seed=seed)
             assert float(got) == t.mean
-    # REFERENCES.md: exact random-phase mean exp(-s^2) + (1 - exp(-s^2))/N, s = w sigma_t,
+    # docs/references.rst: exact random-phase mean exp(-s^2) + (1 - exp(-s^2))/N, s = w sigma_t,
     # band-averaged; more jitter, less gain.
     means = ds["gain_expected"].isel(seed=0).values
     assert means[0] > means[1]

@@ -5,10 +5,10 @@ from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 
 from thzarray import Medium
-from thzarray.gain import Direction, Receiver
-from thzarray.layouts import grid, line, with_delays
-from thzarray.steering import steering_delays
-from thzarray.tolerance import phase_error_variance, tolerance
+from thzarray.array.layouts import grid, line, with_delays
+from thzarray.array.steering import steering_delays
+from thzarray.array.targets import Aperture, Direction
+from thzarray.array.tolerance import phase_error_variance, tolerance
 
 HUMID = Medium.air(relative_humidity=0.5)
 
@@ -25,13 +25,13 @@ def steered(layout, target, medium=HUMID):
 
 
 def test_jitter_law_n10_sigma_half():
-    # REFERENCES.md: N = 10, sigma = 0.5 rad -> 0.8009 (computed there from the law; recomputed
+    # docs/references.rst: N = 10, sigma = 0.5 rad -> 0.8009 (computed there from the law; recomputed
     # here from the formula). Timing jitter sigma_t at angular frequency w gives s = w sigma_t.
     f = 0.3e12
     w = 2 * np.pi * f
     target = Direction(0.15, 0.2)
     lay = steered(line(10, 1.2e-3, 0.03), target)
-    res = tolerance(lay, target, [f], timing_jitter=0.5 / w, shots=6000, seed=5, medium=HUMID)
+    res = tolerance(lay, target, [f], timing_jitter=0.5 / w, trials=6000, seed=5, medium=HUMID)
     law = random_phase_law(0.5, 10)
     assert_allclose(res.expected, law, rtol=1e-12)
     assert abs(res.mean - law) < 4 * res.standard_error
@@ -46,7 +46,7 @@ def test_exact_mean_is_the_random_phase_law(n, s):
     f = 0.25e12
     target = Direction(0.12, 1.0)
     lay = steered(line(n, 1.0e-3, 0.03), target)
-    res = tolerance(lay, target, [f], timing_jitter=s / (2 * np.pi * f), shots=2, seed=0,
+    res = tolerance(lay, target, [f], timing_jitter=s / (2 * np.pi * f), trials=2, seed=0,
                     medium=HUMID)
     assert_allclose(res.expected, random_phase_law(s, n), rtol=1e-10)
 
@@ -61,7 +61,7 @@ def test_transverse_error_phase_variance():
     s2 = (k * sig * np.sin(theta)) ** 2
     var = phase_error_variance(lay, theta, 0.0, [f], transverse_error=sig, medium=HUMID)
     assert_allclose(var, s2, rtol=1e-12)
-    res = tolerance(lay, target, [f], transverse_error=sig, shots=4000, seed=9, medium=HUMID)
+    res = tolerance(lay, target, [f], transverse_error=sig, trials=4000, seed=9, medium=HUMID)
     assert_allclose(res.expected, random_phase_law(np.sqrt(s2), 9), rtol=1e-10)
     assert abs(res.mean - res.expected) < 4 * res.standard_error
 
@@ -73,7 +73,7 @@ def test_onset_errors_cost_nothing_at_phase_matching():
     theta = np.arccos(HUMID.n_group / HUMID.n_thz)
     target = Direction(theta, 0.0)
     lay = steered(grid((2, 2), 1.5e-3, 0.5), target)
-    res = tolerance(lay, target, [0.3e12, 0.5e12], longitudinal_error=5e-3, shots=50, seed=1,
+    res = tolerance(lay, target, [0.3e12, 0.5e12], longitudinal_error=5e-3, trials=50, seed=1,
                     medium=HUMID)
     assert_allclose(res.samples, 1.0, rtol=1e-9)
     assert_allclose(res.expected, 1.0, rtol=1e-12)
@@ -81,10 +81,10 @@ def test_onset_errors_cost_nothing_at_phase_matching():
 
 def test_receiver_and_band_monte_carlo_agrees_with_exact_mean():
     f = np.linspace(0.2e12, 0.5e12, 4)
-    rx = Receiver(0.16, 0.3, 5e-3, 0.4)
+    rx = Aperture(0.16, 0.3, 5e-3, 0.4)
     lay = steered(grid((3, 2), 1.4e-3, 0.03), rx)
     res = tolerance(lay, rx, f, timing_jitter=0.2e-12, transverse_error=50e-6,
-                    longitudinal_error=1e-3, shots=3000, seed=4, medium=HUMID)
+                    longitudinal_error=1e-3, trials=3000, seed=4, medium=HUMID)
     assert abs(res.mean - res.expected) < 4 * res.standard_error
     assert 0.1 < res.expected < 1.0
 
@@ -92,7 +92,7 @@ def test_receiver_and_band_monte_carlo_agrees_with_exact_mean():
 def test_no_errors_deliver_the_design():
     target = Direction(0.2, 0.0)
     lay = steered(line(4, 1e-3, 0.02), target)
-    res = tolerance(lay, target, [0.3e12], shots=10, medium=HUMID)
+    res = tolerance(lay, target, [0.3e12], trials=10, medium=HUMID)
     assert_allclose(res.samples, 1.0, rtol=1e-12)
     assert res.std == 0.0
 
@@ -103,7 +103,7 @@ def test_bad_inputs_raise():
         tolerance(lay, Direction(0.2), [0.3e12], timing_jitter=-1e-13)
     with pytest.raises(ValueError, match="percentile"):
         tolerance(lay, Direction(0.2), [0.3e12], percentile=120.0)
-    with pytest.raises(ValueError, match="shots"):
-        tolerance(lay, Direction(0.2), [0.3e12], shots=1)
+    with pytest.raises(ValueError, match="trials"):
+        tolerance(lay, Direction(0.2), [0.3e12], trials=1)
     with pytest.raises(ValueError, match="transverse_error"):
         tolerance(lay, Direction(0.2), [0.3e12], transverse_error=np.nan)

@@ -1,95 +1,167 @@
 """thzarray: terahertz emission from femtosecond-laser plasma filaments in air, alone and in
 phased arrays.
 
-Which module owns what (arrows point down only; see DEVELOPERS.md):
+The package follows the signal from the laser to the detector. Each subpackage owns one
+stage and imports only the stages before it (the order is ``thzarray._layers.LAYERS``; a
+test checks every import):
 
-- ``medium``        air indices: Ciddor optical group index, ITU-R P.453 THz index.
-- ``plasma``        electron plasma and the spectrum of its ponderomotively driven current.
-- ``filament``      one plasma column (length, start, axis, delay, weight, profile).
-- ``_kernels``      compiled loops (numba) and their numpy twins; private.
-- ``farfield``      far field of one or many columns; spectral-angular energy; total energy.
-- ``cone``          cone angle <-> plasma length; reachable cones; band-averaged cone.
-- ``polarization``  local polarization, Stokes parameters, degree of radial polarization.
-- ``layouts``       array layouts (line, grid, hexagonal, ring, random, staggered), CSV
-                    tables, array factor, factored element x array-factor path.
-- ``_array_kernels`` compiled array-factor loops and their numpy twins; private.
-- ``gain``          single / incoherent / phased / ideal N^2 gains, directivity, targets.
-- ``steering``      true-time and phase-only delays, squint, steering designer and report.
-- ``tolerance``     Monte Carlo of timing jitter and placement errors with the exact mean.
-- ``maps``          sky and (theta, freq) maps of an array, as arrays with their axes.
-- ``laser``         laser settings -> plasma: Marburger critical power and collapse distance,
-                    focused beam, O2 ionization, plasma length and density estimates.
-- ``fitting``       fits of measured angular and delay scans with covariance errors.
-- ``nearfield``     exact finite-distance fields (Jackson eq. 9.18 along each column), E and H.
-- ``_near_kernels`` compiled Filon-Legendre line integrals and their numpy twin; private.
-- ``surfaces``      plane, sphere and line scans; where the far field stops being valid.
-- ``atmosphere``    ITU-R P.676-12 Annex 1 line-by-line absorption of humid air.
-- ``detectors``     narrow-band and broadband receivers, polarization on a surface.
-- ``budget``        energy into a receiver versus range and humidity.
+- ``base``     ground floor: argument checks, the memory budget, band quadrature, geometry.
+- ``air``      the medium: Ciddor and ITU-R P.453 indices, P.676 absorption, one ``Medium``.
+- ``source``   laser settings to plasma (``Pulse``), the plasma current, the ``Filament``.
+- ``field``    far and finite-distance fields, radiated energy, the cone, polarization,
+               scan surfaces.
+- ``array``    layouts, the array sum, targets, gains, steering delays, beam report, the
+               delay designer, tolerances, sky maps.
+- ``detect``   receivers and detectors, the range budget.
+- ``inverse``  the focusing for a wanted cone, fits of measured scans.
+- ``app``      design files, units, commands, tables, figures, sweeps, the command line
+               (the only layer that touches files, unit strings, the terminal or plots).
 
-Edge layer (not imported by the package itself):
-
-- ``units``         unit strings ("30 cm", "0.3 THz") -> SI floats (pint).
-- ``design``        TOML design files: schema and validation of every problem at once.
-- ``jobs``          design-level computations behind the commands.
-- ``tables``        CSV files of layouts, measured scans and detector responses.
-- ``report``        labelled datasets and netCDF; ``output``: atomic, no-overwrite writes.
-- ``plots``         matplotlib and plotly figures.
-- ``sweep``         parameter studies on dask.distributed, resumable.
-- ``cli``           the ``thzarray`` command (top layer; the only module that prints).
-
-Importing the package never imports a plotting library. SI units and radians throughout.
+The names below are the ones scripts use most; each lives in the module its docstring
+names. Importing the package never imports a plotting library. SI units and radians
+throughout.
 """
 
-from .cone import ConeRange, band_cone_angle, cone_angle, cone_range, length_for_cone
-from .farfield import (FarField, far_field, source_spectral_energy, spectral_energy,
-                       total_energy, unit_vectors)
-from .filament import Filament
-from .medium import Medium
-from .plasma import Plasma
-from .polarization import PolarizationMap, degree_of_radial_polarization, polarization_map
-from .nearfield import NearField, field_at, fields_at, magnetic_field_at, spectral_fluence
-from .surfaces import (FarFieldDeparture, Surface, far_field_departure, line_scan, plane_scan,
-                       sphere_scan)
-from .atmosphere import (Air, attenuate, attenuation_coefficient, oxygen_attenuation,
-                         water_vapour_attenuation)
-from .detectors import (BroadbandDetector, NarrowbandReceiver, detected_energy,
-                        received_energy, surface_degree_of_radial_polarization,
-                        surface_polarization)
-from .budget import RangeBudget, range_budget
-from . import layouts
-from .layouts import array_factor, array_far_field, factored_far_field, with_delays
-from .gain import ArrayGain, Direction, Receiver, array_factor_directivity, array_gain, directivity
-from .steering import (ConeLevel, ConeNullWarning, GratingLobe, SquintReport, SteeringDesign,
-                       SteeringReport, cone_level, design_steering, phase_only_delays, squint,
-                       steering_delays, steering_report)
-from .tolerance import ToleranceResult, tolerance
-from .maps import FrequencyMap, SkyMap, frequency_map, sky_map
-from .laser import (FocusingChart, PlasmaEstimate, collapse_distance, critical_power,
-                    focusing_chart, focusing_for_cone, plasma_from_laser)
-from .fitting import FitResult, fit_delay_scan, fit_scan, parse_scan_csv
-
-__version__ = "0.1.0"
+from thzarray._version import __version__
+from thzarray.air.absorption import (
+                                     attenuate,
+                                     attenuation_coefficient,
+                                     oxygen_attenuation,
+                                     water_vapour_attenuation,
+)
+from thzarray.air.medium import AirConditions, Medium
+from thzarray.array import layouts
+from thzarray.array.arrayfield import array_factor, array_far_field, factored_far_field
+from thzarray.array.beam import (
+                                     ConeNullWarning,
+                                     GratingLobe,
+                                     SteeringReport,
+                                     steering_report,
+)
+from thzarray.array.designer import SteeringDesign, design_steering
+from thzarray.array.gain import (
+                                     ArrayGain,
+                                     array_factor_directivity,
+                                     array_gain,
+                                     directivity,
+)
+from thzarray.array.layouts import with_delays
+from thzarray.array.maps import FrequencyMap, SkyMap, frequency_map, sky_grid, sky_map
+from thzarray.array.steering import (
+                                     ConeLevel,
+                                     SquintReport,
+                                     cone_level,
+                                     phase_only_delays,
+                                     squint,
+                                     steering_delays,
+)
+from thzarray.array.targets import Aperture, Direction
+from thzarray.array.tolerance import ToleranceResult, tolerance
+from thzarray.base.geometry import unit_vectors
+from thzarray.detect.budget import RangeBudget, range_budget
+from thzarray.detect.receivers import (
+                                     BroadbandDetector,
+                                     NarrowbandReceiver,
+                                     detected_energy,
+                                     received_energy,
+                                     surface_degree_of_radial_polarization,
+                                     surface_polarization,
+)
+from thzarray.field.cone import (
+                                     ConeRange,
+                                     band_cone_angle,
+                                     cone_angle,
+                                     cone_range,
+                                     length_for_cone,
+)
+from thzarray.field.energy import source_spectral_energy, spectral_energy, total_energy
+from thzarray.field.farfield import FarField, far_field
+from thzarray.field.nearfield import (
+                                     NearField,
+                                     field_at,
+                                     fields_at,
+                                     magnetic_field_at,
+                                     spectral_fluence,
+)
+from thzarray.field.polarization import (
+                                     PolarizationMap,
+                                     degree_of_radial_polarization,
+                                     polarization_map,
+)
+from thzarray.field.surfaces import (
+                                     FarFieldDeparture,
+                                     Surface,
+                                     far_field_departure,
+                                     line_scan,
+                                     plane_scan,
+                                     sphere_scan,
+)
+from thzarray.inverse.focusing import FocusingChart, focusing_chart, focusing_for_cone
+from thzarray.inverse.leastsq import FitResult
+from thzarray.inverse.scans import fit_delay_scan, fit_scan
+from thzarray.source.filament import Filament
+from thzarray.source.laser import (
+                                     FilamentationModel,
+                                     PlasmaEstimate,
+                                     Pulse,
+                                     collapse_distance,
+                                     critical_power,
+                                     plasma_from_laser,
+)
+from thzarray.source.plasma import Plasma
 
 __all__ = [
-    "FitResult",
-    "FocusingChart",
+    "__version__",
+    # air
+    "AirConditions",
+    "Medium",
+    "attenuate",
+    "attenuation_coefficient",
+    "oxygen_attenuation",
+    "water_vapour_attenuation",
+    # source
+    "Filament",
+    "FilamentationModel",
+    "Plasma",
     "PlasmaEstimate",
+    "Pulse",
     "collapse_distance",
     "critical_power",
-    "fit_delay_scan",
-    "fit_scan",
-    "focusing_chart",
-    "focusing_for_cone",
     "plasma_from_laser",
-    "parse_scan_csv",
+    # field
+    "ConeRange",
+    "FarField",
+    "FarFieldDeparture",
+    "NearField",
+    "PolarizationMap",
+    "Surface",
+    "band_cone_angle",
+    "cone_angle",
+    "cone_range",
+    "degree_of_radial_polarization",
+    "far_field",
+    "far_field_departure",
+    "field_at",
+    "fields_at",
+    "length_for_cone",
+    "line_scan",
+    "magnetic_field_at",
+    "plane_scan",
+    "polarization_map",
+    "source_spectral_energy",
+    "spectral_energy",
+    "spectral_fluence",
+    "sphere_scan",
+    "total_energy",
+    "unit_vectors",
+    # array
+    "Aperture",
     "ArrayGain",
     "ConeLevel",
     "ConeNullWarning",
     "Direction",
     "FrequencyMap",
     "GratingLobe",
-    "Receiver",
     "SkyMap",
     "SquintReport",
     "SteeringDesign",
@@ -106,51 +178,27 @@ __all__ = [
     "frequency_map",
     "layouts",
     "phase_only_delays",
+    "sky_grid",
     "sky_map",
     "squint",
     "steering_delays",
     "steering_report",
     "tolerance",
     "with_delays",
-    "Air",
+    # detect
     "BroadbandDetector",
-    "FarFieldDeparture",
     "NarrowbandReceiver",
-    "NearField",
     "RangeBudget",
-    "Surface",
-    "attenuate",
-    "attenuation_coefficient",
     "detected_energy",
-    "far_field_departure",
-    "field_at",
-    "fields_at",
-    "line_scan",
-    "magnetic_field_at",
-    "oxygen_attenuation",
-    "plane_scan",
     "range_budget",
     "received_energy",
-    "spectral_fluence",
-    "sphere_scan",
     "surface_degree_of_radial_polarization",
     "surface_polarization",
-    "water_vapour_attenuation",
-    "ConeRange",
-    "FarField",
-    "Filament",
-    "Medium",
-    "Plasma",
-    "PolarizationMap",
-    "band_cone_angle",
-    "cone_angle",
-    "cone_range",
-    "degree_of_radial_polarization",
-    "far_field",
-    "length_for_cone",
-    "polarization_map",
-    "source_spectral_energy",
-    "spectral_energy",
-    "total_energy",
-    "unit_vectors",
+    # inverse
+    "FitResult",
+    "FocusingChart",
+    "fit_delay_scan",
+    "fit_scan",
+    "focusing_chart",
+    "focusing_for_cone",
 ]

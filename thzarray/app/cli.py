@@ -1,0 +1,196 @@
+"""The ``thzarray`` command: the argument parser and the entry point.
+
+Exit codes: 0 success; 2 bad input or usage (one clear line per problem on stderr, no
+traceback unless --debug); 1 internal error; 130 interrupted. Every subcommand takes
+--out DIR, --json and --force; files are written atomically and never overwrite existing
+files without --force. The commands themselves are in :mod:`thzarray.app.commands`.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+
+from thzarray._version import __version__
+from thzarray.app.commands.array import cmd_compare, cmd_steer, cmd_sweep, cmd_tolerance
+from thzarray.app.commands.common import SAFETY, SAFETY_SHORT, UsageError
+from thzarray.app.commands.filament import (
+    cmd_check,
+    cmd_cone,
+    cmd_fit,
+    cmd_focus,
+    cmd_pattern,
+    cmd_safety,
+)
+from thzarray.app.commands.gallery import cmd_demo
+from thzarray.app.commands.receiver import cmd_budget, cmd_map
+
+__all__ = ["build_parser", "main"]
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message):  # one line, exit 2
+        raise UsageError(f"{self.prog}: {message}")
+
+
+def _common(p):
+    p.add_argument("--out", type=Path, default=Path("thzarray-out"),
+                   help="directory for figures and tables (default: ./thzarray-out)")
+    p.add_argument("--json", action="store_true", help="print machine-readable results on stdout")
+    p.add_argument("--force", action="store_true", help="overwrite existing output files")
+    p.add_argument("--quiet", action="store_true", help="no progress bar or chatter")
+    p.add_argument("--debug", action="store_true", help="show tracebacks of internal errors")
+
+
+def _medium_flags(p):
+    g = p.add_argument_group("medium (default: air at 15 degC, 1013.25 hPa, dry)")
+    g.add_argument("--vacuum", action="store_true", help="vacuum instead of air")
+    g.add_argument("--temperature", default="15 degC", help="air temperature, e.g. '20 degC'")
+    g.add_argument("--pressure", default="1013.25 hPa", help="total pressure, e.g. '1000 hPa'")
+    g.add_argument("--humidity", default="0 %", help="relative humidity, e.g. '50 %%'")
+    g.add_argument("--laser-wavelength", default="800 nm", help="laser wavelength, e.g. '800 nm'")
+
+
+def _command(sub, name, help_text, examples, func, positional=None, note=""):
+    """A subcommand with its examples, the safety line and the common flags."""
+    epilog = ("examples:\n" if len(examples) > 1 else "example:\n") + "".join(
+        f"  {e}\n" for e in examples) + (f"\n{note}\n" if note else "") + "\n" + SAFETY_SHORT
+    p = sub.add_parser(name, help=help_text, epilog=epilog,
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    if positional is not None:
+        p.add_argument(positional[0], type=Path, help=positional[1])
+    _common(p)
+    p.set_defaults(func=func)
+    return p
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = _Parser(prog="thzarray",
+                     description="THz emission from femtosecond-laser plasma filaments in air, "
+                                 "alone and in phased arrays.",
+                     epilog=SAFETY, formatter_class=argparse.RawDescriptionHelpFormatter)
+    parser.add_argument("--version", action="version", version=f"thzarray {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    design = ("design", "design file (TOML; reference: designs/README.md)")
+
+    p = sub.add_parser("safety", help="print the laser-safety cautions")
+    p.set_defaults(func=cmd_safety)
+
+    p = _command(sub, "cone", "cone angle for a plasma length, or the length for an angle",
+                 ["thzarray cone --length '30 cm' --freq '0.3 THz' --humidity '50 %'",
+                  "thzarray cone --angle '3 deg' --freq '0.5 THz' --humidity '50 %'"], cmd_cone)
+    what = p.add_mutually_exclusive_group(required=True)
+    what.add_argument("--length", help="plasma length, e.g. '30 cm'")
+    what.add_argument("--angle", help="wanted cone angle, e.g. '3 deg'")
+    p.add_argument("--freq", required=True, help="frequency, e.g. '0.3 THz'")
+    _medium_flags(p)
+
+    _command(sub, "check", "validate a design file (every problem, one line each)",
+             ["thzarray check designs/single_filament.toml"], cmd_check, design)
+    _command(sub, "pattern", "far-field sky maps, cuts through the cone, cone chart",
+             ["thzarray pattern designs/single_filament.toml --out results"], cmd_pattern, design)
+    _command(sub, "map", "what the receiver records on a detector plane (exact near field) "
+                         "beside the far-field prediction",
+             ["thzarray map designs/lab_receiver.toml --out results"], cmd_map, design)
+    _command(sub, "budget", "energy into the receiver versus range and humidity",
+             ["thzarray budget designs/lab_receiver.toml --json"], cmd_budget, design)
+
+    toward = ("target direction THETA,PHI, e.g. '9 deg,0 deg' (default: the design's "
+              "[steering].toward)")
+    p = _command(sub, "steer", "delays that steer a layout toward a target, with the lobe "
+                               "report and maps",
+                 ["thzarray steer designs/grid_steering.toml",
+                  "thzarray steer designs/grid_steering.toml --toward '9 deg,0 deg' "
+                  "--write steered.toml"], cmd_steer, design)
+    p.add_argument("--toward", help=toward)
+    p.add_argument("--write", type=Path, help="also write a new design file with these delays")
+
+    p = _command(sub, "compare", "single, incoherent, phased and ideal N^2 energies",
+                 ["thzarray compare designs/grid_steering.toml --json"], cmd_compare, design)
+    p.add_argument("--toward", help=toward)
+    p.add_argument("--trials", type=int, default=400,
+                   help="Monte Carlo trials of random phases (default 400)")
+    p.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
+
+    p = _command(sub, "tolerance", "Monte Carlo of timing jitter and placement errors",
+                 ["thzarray tolerance designs/grid_steering.toml"], cmd_tolerance, design)
+    p.add_argument("--toward", help=toward)
+
+    p = _command(sub, "fit", "fit a measured angular scan: effective length, mismatch, "
+                             "amplitude, background",
+                 ["thzarray fit designs/scan_synthetic.csv",
+                  "thzarray fit scan.csv --freq '0.3 THz' --distance '1.5 m' --json",
+                  "thzarray fit scan.csv --fix background=0"], cmd_fit,
+                 ("data", "scan CSV file"),
+                 note="CSV: columns angle_deg (or angle_rad), signal, optional sigma; metadata "
+                      "lines '# freq = 0.3 THz', '# distance = 1.5 m'.")
+    p.add_argument("--freq", help="frequency, e.g. '0.3 THz' (default: the file's '# freq')")
+    p.add_argument("--distance", help="detector distance for a finite-distance fit, e.g. "
+                                      "'1.5 m' (default: the file's '# distance', else far field)")
+    p.add_argument("--fix", action="append", default=[], metavar="NAME=VALUE",
+                   help="hold a parameter fixed (SI), e.g. background=0; repeatable")
+
+    p = _command(sub, "focus", "pick lens and pulse energy for a target cone: cone angle at "
+                               "the band versus focal length and energy",
+                 ["thzarray focus --angle '6 deg' --band '0.2 THz,0.4 THz' "
+                  "--energy '0.5 mJ,1 mJ,2 mJ'"], cmd_focus)
+    p.add_argument("--angle", required=True, help="target cone angle, e.g. '6 deg'")
+    p.add_argument("--band", required=True, help="receiver band LOW,HIGH, e.g. '0.2 THz,0.4 THz'")
+    p.add_argument("--energy", default="0.5 mJ,1 mJ,2 mJ,4 mJ", help="pulse energies, comma list")
+    p.add_argument("--duration", default="50 fs", help="pulse duration (intensity FWHM)")
+    p.add_argument("--beam-radius", default="5 mm", help="1/e^2 intensity radius at the lens")
+    p.add_argument("--focal", default="0.2 m,5 m", help="focal-length range of the chart LOW,HIGH")
+    _medium_flags(p)
+
+    p = _command(sub, "sweep", "parameter study over design keys and seeds on dask (local "
+                               "cluster by default), resumable",
+                 ["thzarray sweep designs/sweeps/length_scan.toml --out results",
+                  "thzarray sweep study.toml --scheduler tcp://HOST:8786"], cmd_sweep,
+                 ("sweep", "sweep file (TOML)"), note="Sweep-file format: designs/sweeps/README.md.")
+    p.add_argument("--workers", type=int, default=2,
+                   help="worker processes of the local cluster on 127.0.0.1 (default 2)")
+    where = p.add_mutually_exclusive_group()
+    where.add_argument("--scheduler", metavar="ADDRESS",
+                       help="use a running dask scheduler, e.g. tcp://HOST:8786")
+    where.add_argument("--serial", action="store_true", help="run in this process without dask")
+    p.add_argument("--recompute", action="store_true", help="ignore finished parts")
+
+    p = _command(sub, "demo", "run every design in designs/ and write the gallery",
+                 ["thzarray demo --out gallery --force"], cmd_demo)
+    p.add_argument("--designs", type=Path, default=Path("designs"),
+                   help="directory of example designs (default: ./designs)")
+    return parser
+
+
+def main(argv=None) -> int:
+    parser = build_parser()
+    debug = "--debug" in (sys.argv[1:] if argv is None else argv)
+    try:
+        args = parser.parse_args(argv)
+        if getattr(args, "func", None) is None:
+            parser.print_help()
+            return 2
+        return args.func(args)
+    except (UsageError, ValueError) as exc:
+        if debug:
+            raise
+        from thzarray.app.design import DesignError
+
+        lines = exc.problems if isinstance(exc, DesignError) else str(exc).splitlines()
+        for line in lines:
+            print(f"thzarray: error: {line}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("thzarray: interrupted", file=sys.stderr)
+        return 130
+    except Exception as exc:  # an internal error: one line, traceback only with --debug
+        if debug:
+            raise
+        print(f"thzarray: internal error: {type(exc).__name__}: {exc} (rerun with --debug "
+              "for the traceback)", file=sys.stderr)
+        return 1
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,181 @@
+r"""The array sum: element pattern times array factor, and the general sum.
+
+When every column has the same length, axis and profile, column n's field is the field of
+one *element* (that column started at the origin with delay 0 and amplitude 1) times
+:math:`q_n e^{i(\omega t_n - k\hat r\cdot\mathbf r_n)}`, so (Jackson, Classical
+Electrodynamics, 3rd ed., sec. 9.2; C. A. Balanis, Antenna Theory, arrays chapter)
+
+.. math:: \mathbf F(\omega, \hat r) = \mathbf F_{el}(\omega, \hat r)\, AF(\omega, \hat r),
+          \qquad AF = \sum_n q_n e^{i(\omega t_n - k\hat r\cdot\mathbf r_n)},
+          \quad k = n_T\omega/c .
+
+:func:`factored_far_field` uses this (one element evaluation plus a cheap array factor);
+:func:`array_far_field` takes it when it applies and the general sum otherwise.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from thzarray.air.medium import Medium
+from thzarray.array import _kernels as _array_kernels
+from thzarray.field.farfield import FarField, check_directions, far_field
+from thzarray.source.filament import Filament, as_filaments
+from thzarray.source.plasma import Plasma
+
+__all__ = [
+    "array_factor",
+    "array_far_field",
+    "element_of",
+    "factored_far_field",
+    "filament_fields",
+    "identical_elements",
+]
+
+
+def _pack(fils):
+    return (np.array([f.start for f in fils], dtype=float).reshape(-1, 3),
+            np.array([f.delay for f in fils], dtype=float),
+            np.array([f.amplitude for f in fils], dtype=float))
+
+
+def identical_elements(layout) -> bool:
+    """True when all columns share length, axis and profile (the field then factors)."""
+    fils = as_filaments(layout)
+    first = fils[0]
+    for f in fils[1:]:
+        if f.length != first.length or f.axis != first.axis or f.is_uniform != first.is_uniform:
+            return False
+        if not f.is_uniform and f.pieces.key() != first.pieces.key():
+            return False
+    return True
+
+
+def element_of(layout) -> Filament:
+    """The common element: the first column moved to the origin with delay 0 and amplitude 1."""
+    first = as_filaments(layout)[0]
+    return first.replace(start=(0.0, 0.0, 0.0), delay=0.0, amplitude=1.0)
+
+
+def _grid_split(freq, theta, phi, shape):
+    """Index k when freq varies only on axes < k and theta, phi only on axes >= k, else None."""
+    nd = len(shape)
+    fs = (1,) * (nd - freq.ndim) + freq.shape
+    ts = (1,) * (nd - theta.ndim) + theta.shape
+    ps = (1,) * (nd - phi.ndim) + phi.shape
+    for k in range(nd + 1):
+        if all(s == 1 for s in fs[k:]) and all(s == 1 for s in ts[:k] + ps[:k]):
+            return k
+    return None
+
+
+def array_factor(filaments, freq, theta, phi, medium: Medium | None = None, *,
+                 compiled: bool = True) -> np.ndarray:
+    r"""Array factor of the columns' starts, delays and amplitudes.
+
+    Parameters
+    ----------
+    filaments : Filament or sequence of Filament
+    freq : array_like
+        Frequency (Hz), > 0.
+    theta, phi : array_like
+        Direction (rad); theta in [0, pi].
+    medium : Medium, optional
+        Defaults to vacuum (only ``n_thz`` enters).
+    compiled : bool
+        Numba kernels (default) or their numpy twins.
+
+    Returns
+    -------
+    ndarray, complex, shape ``np.broadcast_shapes(freq.shape, theta.shape, phi.shape)``
+
+    Notes
+    -----
+    .. math:: AF(\omega, \hat r) = \sum_n q_n e^{i(\omega t_n - k\hat r\cdot\mathbf r_n)}
+
+    (C. A. Balanis, Antenna Theory, arrays chapter). For a (freq, theta, phi) grid such as
+    ``freq[:, None, None], theta[:, None], phi`` the frequencies are looped innermost.
+    """
+    fils = as_filaments(filaments)
+    medium = Medium.vacuum() if medium is None else medium
+    freq, theta, phi, shape = check_directions(freq, theta, phi)
+    start, delay, amplitude = _pack(fils)
+    k = _grid_split(freq, theta, phi, shape)
+    if k is not None:
+        nd = len(shape)
+        fp, tp, pp = (x.reshape((1,) * (nd - x.ndim) + x.shape) for x in (freq, theta, phi))
+        f_flat = np.broadcast_to(fp[(Ellipsis,) + (0,) * (nd - k)], shape[:k]).reshape(-1)
+        th = np.broadcast_to(tp[(0,) * k], shape[k:]).reshape(-1)
+        ph = np.broadcast_to(pp[(0,) * k], shape[k:]).reshape(-1)
+        kernel = (_array_kernels.array_factor_grid if compiled
+                  else _array_kernels.array_factor_grid_numpy)
+        out = kernel(f_flat, th, ph, start, delay, amplitude, medium.n_thz)  # (M, F)
+        return np.ascontiguousarray(out.T).reshape(shape)
+    bf, bt, bp = (np.broadcast_to(x, shape).reshape(-1) for x in (freq, theta, phi))
+    kernel = (_array_kernels.array_factor_points if compiled
+              else _array_kernels.array_factor_points_numpy)
+    return kernel(bf, bt, bp, start, delay, amplitude, medium.n_thz).reshape(shape)
+
+
+def factored_far_field(filaments, freq, theta, phi, medium: Medium | None = None,
+                       plasma: Plasma | None = None, *, compiled: bool = True) -> FarField:
+    r"""Far field of a layout of identical columns as element pattern times array factor.
+
+    Parameters and returns as for :func:`thzarray.field.farfield.far_field`.
+
+    Raises
+    ------
+    ValueError
+        When the columns differ in length, axis or profile (see :func:`identical_elements`).
+
+    Notes
+    -----
+    .. math:: \mathbf F = \mathbf F_{el}\, AF
+
+    (module docstring). Equal to the general sum up to rounding.
+    """
+    fils = as_filaments(filaments)
+    if not identical_elements(fils):
+        raise ValueError("filaments = columns of different length, axis or profile; allowed: "
+                         "identical columns for the factored sum (use array_far_field)")
+    medium = Medium.vacuum() if medium is None else medium
+    el = far_field(element_of(fils), freq, theta, phi, medium, plasma, compiled=compiled)
+    af = array_factor(fils, freq, theta, phi, medium, compiled=compiled)
+    return FarField(el.freq, el.theta, el.phi, el.e_theta * af, el.e_phi * af, medium)
+
+
+def array_far_field(filaments, freq, theta, phi, medium: Medium | None = None,
+                    plasma: Plasma | None = None, *, compiled: bool = True) -> FarField:
+    """Far field of a layout: the factored sum when the columns are identical, else the general one.
+
+    Parameters and returns as for :func:`thzarray.field.farfield.far_field`.
+    """
+    fils = as_filaments(filaments)
+    if len(fils) > 1 and identical_elements(fils):
+        return factored_far_field(fils, freq, theta, phi, medium, plasma, compiled=compiled)
+    return far_field(fils, freq, theta, phi, medium, plasma, compiled=compiled)
+
+
+def filament_fields(filaments, freq, theta, phi, medium: Medium | None = None,
+                    plasma: Plasma | None = None) -> np.ndarray:
+    """Each column's field with its delay taken out: the terms of the array sum.
+
+    Parameters
+    ----------
+    filaments : Filament or sequence of Filament
+    freq, theta, phi : array_like
+        As for :func:`thzarray.field.farfield.far_field`.
+    medium, plasma : optional
+
+    Returns
+    -------
+    ndarray, complex, shape (N,) + broadcast shape + (2,)
+        (theta, phi) components (V s) of column n with delay 0; the layout's field is
+        ``sum_n g[n] * exp(i w t_n)``.
+    """
+    fils = as_filaments(filaments)
+    parts = []
+    for f in fils:
+        ff = far_field(f.replace(delay=0.0), freq, theta, phi, medium, plasma)
+        parts.append(np.stack([ff.e_theta, ff.e_phi], axis=-1))
+    return np.stack(parts)

@@ -1,0 +1,146 @@
+r"""Range budget: energy into a receiver versus distance and humidity.
+
+For a receiver at distance R from the origin in the direction :math:`\hat r(\theta,\phi)`,
+in the far field of the layout (check with :func:`thzarray.field.surfaces.far_field_departure`),
+
+.. math:: W(R, h) = \sum_j w_j\,A\,2n_T\varepsilon_0 c\,
+          \frac{|\hat p\cdot\mathbf F_h(f_j,\hat r)|^2}{R^2}\,e^{-\alpha_h(f_j) R},
+
+with the radiation vector :math:`\mathbf F_h` of :func:`thzarray.field.farfield.far_field` in the medium's air at
+relative humidity h (the THz index, hence the cone, changes with humidity: ITU-R P.453, the
+same :class:`~thzarray.air.medium.Medium`), the power attenuation coefficient
+:math:`\alpha_h` of ITU-R P.676 (:mod:`thzarray.air.absorption`), and the receiver's
+weights: for a
+:class:`~thzarray.detectors.NarrowbandReceiver` the pass-band weights, its polarization
+:math:`\hat p` and its plane-wave effective area (A, or :math:`2\pi w_0^2` for a Gaussian
+beam); for a :class:`~thzarray.detectors.BroadbandDetector` facing the source, its
+response times trapezoid weights, area A and the full transverse field.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.constants import c, epsilon_0
+
+from thzarray.air.absorption import attenuation_coefficient
+from thzarray.air.medium import Medium
+from thzarray.base.band import band_weights, check_band, passband_weights
+from thzarray.base.checks import as_float_array, check_scalar
+from thzarray.detect.receivers import BroadbandDetector, NarrowbandReceiver
+from thzarray.field.farfield import far_field
+from thzarray.source.filament import as_filaments
+from thzarray.source.plasma import Plasma
+
+__all__ = ["RangeBudget", "range_budget"]
+
+
+@dataclass(frozen=True, eq=False)
+class RangeBudget:
+    """Energy into a receiver on a grid of distance and humidity.
+
+    Attributes
+    ----------
+    distance : ndarray, shape (D,)
+        Range from the origin (m).
+    relative_humidity : ndarray, shape (H,)
+        Relative humidity (fraction); NaN for a vacuum medium.
+    freq : ndarray, shape (F,)
+        Frequencies sampling the receiver's band (Hz).
+    theta, phi : float
+        Direction of the receiver (rad).
+    energy : ndarray, shape (H, D)
+        Energy per pulse into the receiver (J; per (A s)^2 without a plasma).
+    free_space_energy : ndarray, shape (H, D)
+        The same without gaseous absorption (spreading, aperture and band only).
+    attenuation : ndarray, shape (H, F)
+        Power attenuation coefficient alpha (1/m) at each humidity and frequency.
+    """
+
+    distance: np.ndarray
+    relative_humidity: np.ndarray
+    freq: np.ndarray
+    theta: float
+    phi: float
+    energy: np.ndarray
+    free_space_energy: np.ndarray
+    attenuation: np.ndarray
+
+    @property
+    def absorption_db(self) -> np.ndarray:
+        """Band-averaged gaseous loss 10 log10(free_space_energy / energy) (dB), shape (H, D)."""
+        return 10 * np.log10(self.free_space_energy / self.energy)
+
+
+def _receiver_weights(receiver, freq, ff):
+    """Per-frequency factor A * w_j * |p.F|^2 ((V s)^2 m^2 Hz), shape (F,)."""
+    if isinstance(receiver, NarrowbandReceiver):
+        wts = passband_weights(freq, *receiver.band)
+        amp = np.abs(ff.cartesian @ np.asarray(receiver.polarization)) ** 2
+        return receiver.effective_area * wts * amp
+    if isinstance(receiver, BroadbandDetector):
+        wts = band_weights(freq, receiver.response_at(freq))
+        return receiver.area * wts * ff.magnitude_squared
+    raise ValueError(f"receiver = {type(receiver).__name__}; allowed: NarrowbandReceiver or "
+                     "BroadbandDetector")
+
+
+def range_budget(filaments, receiver, freq, distance, theta, phi=0.0,
+                 medium: Medium | None = None, relative_humidity=None,
+                 plasma: Plasma | None = None) -> RangeBudget:
+    """Energy into a receiver versus range and humidity (far field + P.676 absorption).
+
+    Parameters
+    ----------
+    filaments : Filament or sequence of Filament
+    receiver : NarrowbandReceiver or BroadbandDetector
+    freq : array_like, shape (F,)
+        Increasing frequencies (Hz) sampling the receiver's band (spanning a narrow-band
+        receiver's pass band).
+    distance : array_like, shape (D,)
+        Ranges from the origin (m), > 0.
+    theta, phi : float
+        Direction of the receiver from the origin (rad).
+    medium : Medium, optional
+        The air (temperature, pressure, laser wavelength and, unless ``relative_humidity``
+        is given, humidity), from :meth:`Medium.air`; the vacuum (no absorption) by default.
+    relative_humidity : array_like, shape (H,), optional
+        Relative humidities (fraction, 0 to 1) at which to repeat the budget in the
+        medium's air; default the medium's own.
+    plasma : Plasma, optional
+        Absolute current spectrum; without it energies are per (A s)^2.
+
+    Returns
+    -------
+    RangeBudget
+
+    Notes
+    -----
+    .. math:: W = \\sum_j w_j A\\,2n_T\\varepsilon_0 c|\\hat p\\cdot\\mathbf F|^2 R^{-2}
+              e^{-\\alpha R}
+    """
+    fils = as_filaments(filaments)
+    medium = Medium.vacuum() if medium is None else medium
+    f = check_band(freq, minimum=2)
+    dist = as_float_array("distance", distance, low=0.0, low_open=True, unit="m").reshape(-1)
+    th = check_scalar("theta", theta, low=0.0, high=np.pi, unit="rad")
+    ph = check_scalar("phi", phi, unit="rad")
+    if relative_humidity is None:
+        media = [medium]
+        rh = np.array([np.nan if medium.conditions is None else medium.conditions.relative_humidity])
+    else:
+        rh = as_float_array("relative_humidity", relative_humidity, low=0.0,
+                            high=1.0).reshape(-1)
+        media = [medium.with_humidity(h) for h in rh]
+    energy = np.empty((rh.size, dist.size))
+    free = np.empty((rh.size, dist.size))
+    alpha = np.empty((rh.size, f.size))
+    for i, med in enumerate(media):
+        ff = far_field(fils, f, th, ph, med, plasma)
+        per_freq = 2 * med.n_thz * epsilon_0 * c * _receiver_weights(receiver, f, ff)
+        alpha[i] = attenuation_coefficient(f, med)
+        loss = np.exp(-alpha[i][None, :] * dist[:, None])
+        free[i] = per_freq.sum() / dist**2
+        energy[i] = (loss * per_freq[None, :]).sum(axis=1) / dist**2
+    return RangeBudget(dist, rh, f, th, ph, energy, free, alpha)

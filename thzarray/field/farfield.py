@@ -1,0 +1,249 @@
+r"""Far field of one filament or a coherent set of them, and the energy they radiate.
+
+Conventions (shared by the whole package)
+-----------------------------------------
+- Time dependence :math:`e^{-i\omega t}`; spectra :math:`f(\omega) = \int f(t) e^{i\omega t}dt`.
+- A filament whose pulse passes its start at time :math:`t_n` contributes with phase
+  :math:`e^{+i\omega t_n}`; the phase reference is the origin.
+- The returned field is the radiation vector :math:`\mathbf F = \lim r e^{-ikr}\mathbf E(\omega)`
+  (V s), so :math:`\mathbf E \approx \mathbf F e^{ikr}/r`, :math:`k = n_T\omega/c`.
+
+The field (J. D. Jackson, Classical Electrodynamics, 3rd ed., secs. 9.1-9.2,
+:math:`\mathbf E = i\omega\mathbf A_\perp` far away) of currents
+:math:`q_n w_n(s) I(\omega) e^{i\omega(t_n + s n_g/c)}` on columns
+:math:`\mathbf r_n + s\hat a_n`, :math:`0\le s\le L_n`, is
+
+.. math:: \mathbf F = \frac{i\omega\mu_0 I(\omega)}{4\pi}\sum_n q_n
+          \left[\hat a_n - (\hat r\cdot\hat a_n)\hat r\right]
+          e^{i(\omega t_n - k\hat r\cdot\mathbf r_n)}\int_0^{L_n} w_n(s)e^{iu_n s}ds,
+          \qquad u_n = \frac{\omega}{c}(n_g - n_T\,\hat r\cdot\hat a_n).
+
+For a uniform column the integral is :math:`L e^{iuL/2}\operatorname{sinc}(uL/2)`, exact and
+finite at phase matching (u = 0) and on the axis. For a profiled column it is the exact
+transform of the column's piecewise-cubic profile (see :mod:`thzarray.filament`), whose
+only error is the profile's interpolation error.
+
+The spectral-angular energy density (one-sided in frequency, per hertz) follows from
+Parseval's theorem and the Poynting flux :math:`n_T\varepsilon_0 c|\mathbf E|^2`:
+
+.. math:: \frac{d^2W}{df\,d\Omega} = 2 n_T \varepsilon_0 c\,|\mathbf F|^2 \quad[\mathrm{J/(Hz\,sr)}].
+
+Without a :class:`~thzarray.plasma.Plasma` the current spectrum is 1 A s at every frequency:
+patterns are then per unit current spectrum and energies need the plasma's (or a measured)
+calibration factor.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.constants import c, epsilon_0, mu_0
+
+from thzarray.air.medium import Medium
+from thzarray.base.checks import as_float_array
+from thzarray.base.geometry import unit_vectors
+from thzarray.base.memory import DEFAULT_MEMORY_BUDGET, check_result_fits, chunk_points
+from thzarray.field import _kernels
+from thzarray.source.filament import Filament, as_filaments
+from thzarray.source.plasma import Plasma
+
+__all__ = [
+    "FarField",
+    "check_directions",
+    "far_field",
+    "radiation_prefactor",
+]
+
+# Temporary bytes per evaluation point of the pointwise path (inputs, sums and the numpy
+# twin's intermediate arrays), used to size chunks within the memory budget.
+_TEMP_BYTES_PER_POINT = 512
+
+
+@dataclass(frozen=True, eq=False)
+class FarField:
+    """Far-field radiation vector on a grid of frequencies and directions.
+
+    Attributes
+    ----------
+    freq, theta, phi : ndarray
+        The coordinates as given (Hz, rad, rad), broadcastable to ``shape``.
+    e_theta, e_phi : ndarray, complex, shape ``shape``
+        Spherical components of the radiation vector r e^{-ikr} E (V s).
+    medium : Medium
+        The medium the field was computed in.
+    """
+
+    freq: np.ndarray
+    theta: np.ndarray
+    phi: np.ndarray
+    e_theta: np.ndarray
+    e_phi: np.ndarray
+    medium: Medium
+
+    @property
+    def shape(self) -> tuple:
+        return self.e_theta.shape
+
+    @property
+    def cartesian(self) -> np.ndarray:
+        """Cartesian radiation vector (V s), shape ``shape + (3,)``."""
+        _, t, p = unit_vectors(self.theta, self.phi)
+        return self.e_theta[..., None] * t + self.e_phi[..., None] * p
+
+    @property
+    def magnitude_squared(self) -> np.ndarray:
+        """|e_theta|^2 + |e_phi|^2 ((V s)^2), shape ``shape``."""
+        return np.abs(self.e_theta) ** 2 + np.abs(self.e_phi) ** 2
+
+    @property
+    def energy_density(self) -> np.ndarray:
+        """Spectral-angular energy density d2W/(df dOmega) (J/(Hz sr)), one-sided in f."""
+        return 2.0 * self.medium.n_thz * epsilon_0 * c * self.magnitude_squared
+
+
+def radiation_prefactor(freq, medium: Medium, plasma: Plasma | None):
+    """The frequency-only factor i w mu0 I(w) / (4 pi) (V s / m), I = 1 A s without plasma."""
+    w = 2 * np.pi * freq
+    current = 1.0 if plasma is None else plasma.current_spectrum(freq, medium.n_group)
+    return 1j * w * mu_0 * current / (4 * np.pi)
+
+
+def check_directions(freq, theta, phi):
+    """Validate freq (> 0), theta (0 to pi) and phi; return them and their broadcast shape."""
+    freq = as_float_array("freq", freq, low=0.0, low_open=True, unit="Hz")
+    theta = as_float_array("theta", theta, low=0.0, high=np.pi, unit="rad")
+    phi = as_float_array("phi", phi, unit="rad")
+    try:
+        shape = np.broadcast_shapes(freq.shape, theta.shape, phi.shape)
+    except ValueError:
+        raise ValueError(f"freq, theta, phi have shapes {freq.shape}, {theta.shape}, "
+                         f"{phi.shape}; allowed: shapes that broadcast together "
+                         "(e.g. freq[:, None, None], theta[:, None], phi)") from None
+    return freq, theta, phi, shape
+
+
+def _pack_uniform(fils):
+    return (np.array([f.length for f in fils]),
+            np.array([f.start for f in fils], dtype=float).reshape(-1, 3),
+            np.array([f.axis for f in fils], dtype=float).reshape(-1, 3),
+            np.array([f.delay for f in fils]),
+            np.array([f.amplitude for f in fils]))
+
+
+def _profiled_sum(fil: Filament, freq, theta, phi, medium, compiled):
+    """Radiation-integral sums (theta, phi components) of one profiled column."""
+    w = 2 * np.pi * freq
+    kt = w * medium.n_thz / c
+    r, t, p = unit_vectors(theta, phi)
+    a = np.asarray(fil.axis)
+    u = w * medium.n_group / c - kt * (r @ a)
+    transform = _kernels.cubic_transform if compiled else _kernels.cubic_transform_numpy
+    pieces = fil.pieces
+    s = transform(u, pieces.breaks, pieces.coefs)
+    term = fil.amplitude * s * np.exp(1j * (w * fil.delay - kt * (r @ np.asarray(fil.start))))
+    return term * (t @ a), term * (p @ a)
+
+
+def far_field(filaments, freq, theta, phi, medium: Medium | None = None,
+              plasma: Plasma | None = None, *, compiled: bool = True,
+              memory_budget: float = DEFAULT_MEMORY_BUDGET) -> FarField:
+    """Far field of filaments summed coherently.
+
+    Parameters
+    ----------
+    filaments : Filament or sequence of Filament
+        The columns; their fields add with their delays and amplitudes.
+    freq : array_like
+        Frequency (Hz), > 0.
+    theta : array_like
+        Polar angle from +z (rad), 0 to pi.
+    phi : array_like
+        Azimuth from +x (rad).
+    medium : Medium, optional
+        Defaults to vacuum.
+    plasma : Plasma, optional
+        Sets the current spectrum; without it the current spectrum is 1 A s.
+    compiled : bool
+        Use the numba kernels (default) or their numpy twins.
+    memory_budget : float
+        Bytes this call may use (default 2 GiB): temporaries are chunked to fit; a result
+        (32 bytes per point) that does not fit by itself raises ValueError.
+
+    Returns
+    -------
+    FarField
+        Components of shape ``np.broadcast_shapes(freq.shape, theta.shape, phi.shape)``;
+        pass e.g. ``freq[:, None, None], theta[:, None], phi`` for a (freq, theta, phi) grid.
+
+    Notes
+    -----
+    The formula is in the module docstring (Jackson secs. 9.1-9.2).
+    """
+    fils = as_filaments(filaments)
+    medium = Medium.vacuum() if medium is None else medium
+    freq, theta, phi, shape = check_directions(freq, theta, phi)
+    size = int(np.prod(shape))
+    result_bytes = 32 * size
+    check_result_fits("far_field", result_bytes, memory_budget)
+    chunk = chunk_points(memory_budget, result_bytes, _TEMP_BYTES_PER_POINT)
+    uniform = [f for f in fils if f.is_uniform]
+    profiled = [f for f in fils if not f.is_uniform]
+    packed = _pack_uniform(uniform) if uniform else None
+    outer = _outer_layout(shape, freq, theta, phi)
+    pref = radiation_prefactor(freq, medium, plasma)
+    if packed is not None and outer is not None:
+        grid = _kernels.uniform_grid if compiled else _kernels.uniform_grid_numpy
+        scale = np.broadcast_to(pref, freq.shape).ravel()
+        g_t, g_p = grid(freq.ravel(), theta.ravel(), phi.ravel(), *packed, medium.n_group,
+                        medium.n_thz, scale)
+        e_t, e_p = outer(g_t), outer(g_p)  # views when the axes are already in order
+        if not profiled:
+            return FarField(freq, theta, phi, e_t, e_p, medium)
+        e_t, e_p = e_t.ravel(), e_p.ravel()
+        pointwise_uniform = False
+    else:
+        e_t = np.zeros(size, dtype=complex)
+        e_p = np.zeros(size, dtype=complex)
+        pointwise_uniform = packed is not None
+    bf, bt, bp = (np.broadcast_to(x, shape) for x in (freq, theta, phi))
+    bpref = np.broadcast_to(pref, shape)
+    kernel = _kernels.uniform_sum if compiled else _kernels.uniform_sum_numpy
+    for i0 in range(0, size, chunk):
+        i1 = min(size, i0 + chunk)
+        f_c, t_c, p_c = (np.ascontiguousarray(x.flat[i0:i1]) for x in (bf, bt, bp))
+        p_f = bpref.flat[i0:i1]
+        if pointwise_uniform:
+            acc_t, acc_p = kernel(f_c, t_c, p_c, *packed, medium.n_group, medium.n_thz)
+            e_t[i0:i1] += p_f * acc_t
+            e_p[i0:i1] += p_f * acc_p
+        for fil in profiled:
+            st, sp = _profiled_sum(fil, f_c, t_c, p_c, medium, compiled)
+            e_t[i0:i1] += p_f * st
+            e_p[i0:i1] += p_f * sp
+    return FarField(freq, theta, phi, e_t.reshape(shape), e_p.reshape(shape), medium)
+
+
+def _outer_layout(shape, *arrays):
+    """If each array varies along at most one axis, and no two along the same one, return a
+    function mapping the (F, T, P) outer-grid result to ``shape``; otherwise None."""
+    ndim = len(shape)
+    axes = []
+    for arr in arrays:
+        dims = (1,) * (ndim - arr.ndim) + arr.shape
+        varying = [i for i, d in enumerate(dims) if d > 1]
+        if len(varying) > 1:
+            return None
+        axes.append(varying[0] if varying else None)
+    present = [a for a in axes if a is not None]
+    if len(set(present)) != len(present):
+        return None
+    keep = [i for i, a in enumerate(axes) if a is not None]
+    order = sorted(keep, key=lambda i: axes[i])
+
+    def arrange(result):
+        squeezed = result.reshape([result.shape[i] for i in keep])
+        perm = [keep.index(i) for i in order]
+        return np.transpose(squeezed, perm).reshape(shape)
+
+    return arrange
