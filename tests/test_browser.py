@@ -20,13 +20,24 @@ _CATCHER = ("<script>window.addEventListener('error', function (e) {"
             "document.documentElement.setAttribute('data-script-errors',"
             "(document.documentElement.getAttribute('data-script-errors') || '') + '|' + e.message);"
             "});</script>")
+# After drawing, record any overlap between the title and the buttons, slider, colour-bar
+# title or legend (common practice, no source: text that overlaps cannot be read).
+_OVERLAP = ("<script>window.addEventListener('load', function () { setTimeout(function () {"
+            "var title = document.querySelector('.gtitle'); var hits = [];"
+            "if (title) { var t = title.getBoundingClientRect();"
+            "document.querySelectorAll('.updatemenu-button, .slider-container, .cbtitle,"
+            " .legend').forEach(function (el) { var r = el.getBoundingClientRect();"
+            "if (r.width > 0 && r.left < t.right && t.left < r.right && r.top < t.bottom &&"
+            " t.top < r.bottom) { hits.push(el.getAttribute('class')); } }); }"
+            "document.documentElement.setAttribute('data-overlaps', hits.join(';'));"
+            "}, 5000); });</script>")
 
 
 def render(html_path: Path) -> tuple[str, str]:
     """Load a page in headless Chromium; return the DOM after scripts ran, and stderr."""
     text = html_path.read_text()
     probe = html_path.with_name(html_path.stem + "_probe.html")
-    probe.write_text(text.replace("<head>", "<head>" + _CATCHER, 1))
+    probe.write_text(text.replace("<head>", "<head>" + _CATCHER + _OVERLAP, 1))
     with tempfile.TemporaryDirectory() as profile:
         out = subprocess.run(
             [CHROMIUM, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic",
@@ -42,6 +53,7 @@ def _check(dom, log):
     errors = dom.split('data-script-errors="')[1][:300] if 'data-script-errors="' in dom else ""
     assert not errors, f"a script error was raised: {errors}"
     assert "Uncaught" not in log
+    assert 'data-overlaps=""' in dom, dom.split('data-overlaps="')[1][:200]
 
 
 def test_gallery_figures_render(tmp_path):
@@ -83,16 +95,35 @@ def test_broken_page_is_detected(tmp_path):
     assert 'class="main-svg"' not in dom
 
 
+def test_overlapping_title_is_detected(tmp_path):
+    # The overlap probe itself can fail: buttons drawn on top of the title are reported.
+    import plotly.graph_objects as go
+
+    from thzarray.app.plots.interactive import save
+
+    fig = go.Figure(go.Scatter(x=[0, 1], y=[0, 1]))
+    fig.update_layout(title=dict(text="a long title over the buttons", x=0.05, xanchor="left",
+                                 y=0.9, yanchor="middle"), margin=dict(t=80),
+                      updatemenus=[dict(type="buttons", direction="right", x=0.0, y=1.12,
+                                        xanchor="left", yanchor="middle",
+                                        buttons=[dict(label="a wide button", method="restyle",
+                                                      args=[{}])])])
+    page = save(fig, tmp_path / "overlap.html")
+    dom, _ = render(page)
+    assert "updatemenu-button" in dom.split('data-overlaps="')[1][:200]
+
+
 def test_array_figures_render(tmp_path, array_design):
-    # The steered-lobe page (delay-scale slider), the gain bars and the tolerance histogram.
+    # The steered-lobe page (delay-scale slider opening at the designed delays, target
+    # marked), the delay chart, the gain bars and the tolerance histogram.
     design = array_design("browser array", formats=("html",))
     out = tmp_path / "out"
     for command in ("steer", "compare", "tolerance"):
         assert main([command, str(design), "--out", str(out), "--quiet"]) == 0
-    pages = sorted(out.glob("*.html"))
-    assert len(pages) == 3
+    pages = sorted(p for p in out.glob("*.html") if not p.stem.endswith("_probe"))
+    assert len(pages) == 4
     for page in pages:
         dom, log = render(page)
         _check(dom, log)
         if page.stem.endswith("steered"):
-            assert "fraction of the designed delays" in dom
+            assert "fraction of the designed delays: 1.00" in dom and ">target<" in dom

@@ -26,7 +26,7 @@ def test_cone_length_to_angle_json(capsys):
     expected = cone_angle(0.30, 0.3e12, Medium.air(relative_humidity=0.5))
     assert data["cone_angle_rad"] == pytest.approx(float(expected), rel=1e-12)
     assert set(data) == {"freq_hz", "n_group", "n_thz", "length_m", "cone_angle_rad",
-                         "cone_angle_deg"}
+                         "cone_angle_deg", "notes", "warnings"}
 
 
 def test_cone_angle_to_length_text(capsys):
@@ -43,7 +43,7 @@ def test_cone_angle_to_length_text(capsys):
     (["cone", "--length", "3 cm", "--freq", "abc"], "--freq"),
     (["cone", "--angle", "0.1 deg", "--freq", "1 THz", "--humidity", "50 %"], "allowed"),
     (["cone", "--length", "3 cm"], "--freq"),
-    (["cone", "--length", "3 cm", "--freq", "1 THz", "--humidity", "150 %"], "relative_humidity"),
+    (["cone", "--length", "3 cm", "--freq", "1 THz", "--humidity", "150 %"], "--humidity"),
     (["nonsense"], "invalid choice"),
 ])
 def test_bad_input_exits_2_with_one_line(args, needle, capsys):

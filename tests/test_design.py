@@ -160,24 +160,31 @@ def test_units_and_plain_si_agree():
     assert a.medium == b.medium
 
 
-# JSON output keys are a stable interface: scripts depend on them.
+# JSON output keys are a stable interface: scripts depend on them. Every design-based
+# command also names the target, band and delays it used, and its notes and warnings.
+_PHASING = {"target", "band_hz", "band_from", "delays_s", "delays_from"}
+_ALWAYS = {"notes", "warnings"}
 JSON_KEYS = {
-    "check": {"design", "valid", "filaments", "grid_points"},
-    "pattern": {"design", "files", "freq_hz", "cone_angle_deg", "peak_energy_density",
-                "energy_density_unit"},
-    "steer": {"design", "files", "method", "delays_s", "target_theta_deg", "target_phi_deg",
-              "main_lobe_deg", "pointing_error_deg", "beam_width_deg", "peak_sidelobe_db",
-              "grating_lobes", "cone_level_db", "notes"},
-    "compare": {"design", "files", "count", "single", "incoherent", "incoherent_mc",
-                "incoherent_mc_error", "phased", "ideal", "coherent_limit", "unit",
-                "phased_over_single", "incoherent_over_single", "phased_over_ideal",
-                "target_theta_deg"},
-    "tolerance": {"design", "files", "mean", "std", "standard_error", "percentile",
-                  "percentile_value", "expected_mean", "trials"},
-    "map": {"design", "files", "plane_distance_m", "near_field_peak", "far_field_peak",
-            "near_over_far_peak", "energy_unit"},
-    "budget": {"design", "files", "distance_m", "relative_humidity", "energy", "absorption_db",
-               "theta_rad", "energy_unit"},
+    "check": {"design", "valid", "filaments", "grid_points"} | _PHASING | _ALWAYS,
+    "pattern": {"design", "files", "captions", "freq_hz", "cone_angle_deg",
+                "peak_energy_density", "energy_density_unit", "group_index"}
+               | _PHASING | _ALWAYS,
+    "steer": {"design", "files", "captions", "method", "main_lobe_deg", "pointing_error_deg",
+              "beam_width_deg", "peak_sidelobe_db", "grating_lobes", "cone_level_db",
+              "report_notes"} | _PHASING | _ALWAYS,
+    "compare": {"design", "files", "captions", "count", "single", "incoherent",
+                "incoherent_mc", "incoherent_mc_error", "phased", "ideal", "coherent_limit",
+                "unit", "phased_over_single", "incoherent_over_single", "phased_over_ideal",
+                "trials"} | _PHASING | _ALWAYS,
+    "tolerance": {"design", "files", "captions", "mean", "std", "standard_error",
+                  "percentile", "percentile_value", "expected_mean", "trials",
+                  "timing_jitter_s", "transverse_error_m", "longitudinal_error_m"}
+                 | _PHASING | _ALWAYS,
+    "map": {"design", "files", "captions", "plane_distance_m", "near_field_peak",
+            "far_field_peak", "near_over_far_peak", "energy_unit"} | _PHASING | _ALWAYS,
+    "budget": {"design", "files", "captions", "range_m", "relative_humidity", "energy",
+               "far_field_energy", "far_field_error", "absorption_db", "theta_rad",
+               "phi_rad", "direction_from", "energy_unit"} | _PHASING | _ALWAYS,
 }
 
 
@@ -192,7 +199,7 @@ distance = "0.2 m"
 x = { start = "-3 cm", stop = "3 cm", points = 7 }
 y = { start = "-3 cm", stop = "3 cm", points = 5 }
 [budget]
-distances = { start = "1 m", stop = "5 m", points = 3 }
+ranges = { start = "1 m", stop = "5 m", points = 3 }
 relative_humidity = ["20 %", "60 %"]
 """
 
@@ -224,12 +231,12 @@ def test_force_semantics(tmp_path, capsys, array_design):
     assert main(["steer", str(path), "--out", str(out), "--force", "--quiet",
                  "--write", str(new)]) == 0
     steered = load_design(new)
-    assert len(steered.filaments) == 3 and steered.filaments[-1].delay > 0
+    assert len(steered.filaments) == 3 and steered.steering.delays[-1] > 0
     # delays written are those the steering computed
     capsys.readouterr()
     assert main(["steer", str(path), "--out", str(out), "--force", "--json"]) == 0
     delays = json.loads(capsys.readouterr().out)["delays_s"]
-    assert [f.delay for f in steered.filaments] == pytest.approx(delays, rel=1e-12, abs=1e-30)
+    assert list(steered.steering.delays) == pytest.approx(delays, rel=1e-12, abs=1e-30)
     assert main(["steer", str(path), "--out", str(out), "--force", "--quiet",
                  "--write", str(new)]) == 0  # --force also allows replacing the design file
     assert main(["steer", str(path), "--out", str(out), "--quiet", "--write", str(new)]) == 2
@@ -246,11 +253,16 @@ def test_example_runs_every_job(path, tmp_path):
         assert main([name, str(path), "--out", str(tmp_path / name), "--quiet"]) == 0
 
 
-def test_schema_reference_lists_every_key():
-    from thzarray.app.design import SCHEMA
+def test_schema_reference_is_the_generated_one():
+    # designs/README.md holds exactly the reference generated from the schema, so every key
+    # is documented with its kind, unit, default, range, meaning and an example.
+    from thzarray.app.design.reference import keys_markdown
 
     text = (ROOT / "designs" / "README.md").read_text()
+    start, end = text.index("<!-- keys -->\n"), text.index("<!-- /keys -->")
+    assert text[start + len("<!-- keys -->\n"):end] == keys_markdown()
+    from thzarray.app.design import SCHEMA
+
     for section, keys in SCHEMA.items():
-        assert f"### [{section}]" in text
-        for key in keys:
-            assert f"| `{key}` |" in text, f"{section}.{key} missing from designs/README.md"
+        for key, spec in keys.items():
+            assert spec.doc and spec.example, f"{section}.{key} lacks a meaning or an example"

@@ -293,7 +293,7 @@ def test_bad_fit_arguments():
 
 GOOD = """# a comment
 # freq = 0.3 THz
-# distance = 150 cm
+# range = 150 cm
 # operator = someone
 angle_deg, signal, sigma
 {rows}
@@ -311,7 +311,7 @@ def test_read_scan_csv(tmp_path):
     assert_allclose(angle, np.radians(np.arange(1, 9)), rtol=1e-15)
     assert_allclose(signal, 0.1 * np.arange(8), rtol=1e-15)
     assert_allclose(sigma, 0.01)
-    assert meta == {"freq": pytest.approx(3e11, rel=1e-15), "distance": pytest.approx(1.5),
+    assert meta == {"freq": pytest.approx(3e11, rel=1e-15), "range": pytest.approx(1.5),
                     "operator": "someone"}
     # Without a unit reader the core keeps unit strings as text; plain numbers are SI.
     assert parse_scan_csv(path.read_text())[3]["freq"] == "0.3 THz"
@@ -365,7 +365,7 @@ def test_fit_command_result(tmp_path):
     assert back["errors"] == pytest.approx(fit.errors, rel=1e-12)
     assert back["units"] == {k: UNITS[k] for k in fit.params}
     assert back["model"] == "far-field scan" and back["ok"] is True
-    assert back["freq_hz"] == pytest.approx(3e11) and back["distance_m"] is None
+    assert back["freq_hz"] == pytest.approx(3e11) and back["range_m"] is None
     assert len(back["residuals"]["residual"]) == angle.size
     again = fit_command_result(path, freq="300 GHz", to_si=parse_quantity)
     assert again["params"] == pytest.approx(out["params"], rel=1e-12)

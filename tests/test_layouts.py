@@ -164,16 +164,32 @@ def test_write_layout_refuses_to_overwrite(tmp_path):
 
 def test_csv_errors_name_line_and_column():
     good = layout_to_csv(L.line(2, 1e-3, 0.02))
-    with pytest.raises(ValueError, match="header"):
-        layout_from_csv(good.replace("delay_s", "delay_ps"))
+    with pytest.raises(ValueError, match="header.*'delay_parsec'.*no time unit"):
+        layout_from_csv(good.replace("delay_s", "delay_parsec"))
+    with pytest.raises(ValueError, match="header.*'x_deg'"):
+        layout_from_csv(good.replace("x_m", "x_deg"))
+    with pytest.raises(ValueError, match="no 'y' column"):
+        layout_from_csv("x_mm,length_cm\n1,3\n")
+    with pytest.raises(ValueError, match="no length column"):
+        layout_from_csv("x_mm,y_mm\n1,3\n")
     bad = good.splitlines()
     bad[2] = bad[2].replace("0.02", "abc")
-    with pytest.raises(ValueError, match=r"line 3, length_m = 'abc'"):
+    with pytest.raises(ValueError, match=r"line 3, length = 'abc'"):
         layout_from_csv("\n".join(bad))
     with pytest.raises(ValueError, match="no rows"):
         layout_from_csv(good.splitlines()[0])
-    with pytest.raises(ValueError, match="profile"):
-        layout_to_csv(L.line(2, 1e-3, 0.02, profile=lambda s: 1 + s))
+
+
+def test_csv_units_in_the_header_and_optional_columns():
+    # Units in the header are read with pint (common practice, no source: 1 mm = 1e-3 m,
+    # 1 ps = 1e-12 s); missing columns take the documented defaults.
+    text = "# two columns\nx_mm,y_mm,delay_ps\n-1.5,0,0\n1.5,0,0.87\n"
+    lay = layout_from_csv(text, default_length=0.03, center=(0.0, 0.0, 1.0))
+    assert [f.start for f in lay] == [(-1.5e-3, 0.0, 1.0), (1.5e-3, 0.0, 1.0)]
+    assert [f.delay for f in lay] == [0.0, pytest.approx(0.87e-12, rel=1e-15)]
+    assert all(f.length == 0.03 and f.axis == (0.0, 0.0, 1.0) and f.amplitude == 1.0
+               for f in lay)
+    assert layout_from_csv(layout_to_csv(lay)) == lay
 
 
 # --- array factor and the factored sum ------------------------------------------------------------

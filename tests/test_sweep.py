@@ -408,7 +408,7 @@ BAD = [
      "vary.filaments[7].length: column 7 does not exist; allowed: 0 to 1 or *"),
     ('"5 cm"', '"-5 cm"', "vary.filaments[*].length[0]: '-5 cm' is out of range; "
      "allowed: > 0 and <= 1000 m"),
-    ('"5 cm"', '"5 THz"', "vary.filaments[*].length[0]: '5 THz' is not a length"),
+    ('"5 cm"', '"5 THz"', "vary.filaments[*].length[0]: '5 THz' has the unit 'THz', which is not a length"),
     ('"5 cm"', '"10 cm"', "vary.filaments[*].length: ['10 cm', '10 cm', '15 cm'] repeats a "
      "value; allowed: distinct values"),
     ("points = 2", "points = 0", "vary.filaments[1].delay.points: 0 is not allowed; allowed: "
@@ -458,12 +458,15 @@ def test_dotted_and_quoted_keys_are_the_same_path(tmp_path):
     text = GRID.replace('"filaments[*].length"', '"filament.length"').replace(
         '"filaments[1].delay" = { start = "0 fs", stop = "300 fs", points = 2 }\n',
         "medium.temperature = [\"10 degC\", \"30 degC\"]\n")
-    s = sw.load_sweep(_write(tmp_path, text, SINGLE))
+    in_air = SINGLE.replace('kind = "vacuum"', 'kind = "air"')
+    s = sw.load_sweep(_write(tmp_path, text, in_air))
     assert [a.key for a in s.axes] == ["filament.length", "medium.temperature"]
     assert s.axes[1].unit == "degC"
     assert_array_equal(s.axes[1].values, [10.0, 30.0])
     doubled = text.replace("medium.temperature", "filament.length")
-    assert any("given more than once" in p for p in _problems(tmp_path, doubled, SINGLE))
+    assert any("given more than once" in p for p in _problems(tmp_path, doubled, in_air))
+    # A key the design's kind does not use cannot be varied (vacuum has no temperature).
+    assert any("not used when kind = 'vacuum'" in p for p in _problems(tmp_path, text, SINGLE))
 
 
 LINE = PAIR.split("[[filaments]]")[0] + """\

@@ -18,8 +18,9 @@ def test_tolerance_measure_equals_direct_monte_carlo(tmp_path, array_design):
     base = load_design(path)
     for i, jitter in enumerate([0.1e-12, 0.3e-12]):
         for seed in (0, 1):
-            d = replace(base, tolerance=dict(base.tolerance, timing_jitter=jitter, seed=seed))
-            t, _ = jobs.tolerance_study(d)
+            d = base.replace_sections(tolerance=replace(base.tolerance, timing_jitter=jitter,
+                                                        seed=seed))
+            t, _, _ = jobs.tolerance_study(d)
             got = ds["gain_mean"].isel({"tolerance.timing_jitter": i}).sel(seed=seed)
             assert float(got) == t.mean
     # docs/references.rst: exact random-phase mean exp(-s^2) + (1 - exp(-s^2))/N, s = w sigma_t,

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import argparse
 import sys
+import warnings
 from pathlib import Path
 
 from thzarray._version import __version__
@@ -73,6 +74,10 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"thzarray {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     design = ("design", "design file (TOML; reference: designs/README.md)")
+    toward = ("target direction THETA,PHI, e.g. '9 deg,0 deg' (default: the design's "
+              "[steering]: its stored delays, else its toward)")
+    band = ("band LOW,HIGH or one frequency, e.g. '0.2 THz,0.4 THz' (default: [steering].band, "
+            "else the receiver's, else [cone].band, else [observe].freq)")
 
     p = sub.add_parser("safety", help="print the laser-safety cautions")
     p.set_defaults(func=cmd_safety)
@@ -88,55 +93,73 @@ def build_parser() -> argparse.ArgumentParser:
 
     _command(sub, "check", "validate a design file (every problem, one line each)",
              ["thzarray check designs/single_filament.toml"], cmd_check, design)
-    _command(sub, "pattern", "far-field sky maps, cuts through the cone, cone chart",
-             ["thzarray pattern designs/single_filament.toml --out results"], cmd_pattern, design)
-    _command(sub, "map", "what the receiver records on a detector plane (exact near field) "
-                         "beside the far-field prediction",
-             ["thzarray map designs/lab_receiver.toml --out results"], cmd_map, design)
-    _command(sub, "budget", "energy into the receiver versus range and humidity",
-             ["thzarray budget designs/lab_receiver.toml --json"], cmd_budget, design)
+    p = _command(sub, "pattern", "far-field sky maps, cuts through the cone, cone chart",
+                 ["thzarray pattern designs/single_filament.toml --out results"], cmd_pattern,
+                 design)
+    p.add_argument("--toward", help=toward)
+    p = _command(sub, "map", "what the receiver records on a detector plane (exact near field) "
+                             "beside the far-field prediction",
+                 ["thzarray map designs/lab_receiver.toml --out results"], cmd_map, design)
+    p.add_argument("--toward", help=toward)
+    p = _command(sub, "budget", "energy into the receiver versus its range from the origin and "
+                                "humidity (exact field, far-field error beside it)",
+                 ["thzarray budget designs/lab_receiver.toml --json"], cmd_budget, design)
+    p.add_argument("--toward", help=toward)
 
-    toward = ("target direction THETA,PHI, e.g. '9 deg,0 deg' (default: the design's "
-              "[steering].toward)")
+
     p = _command(sub, "steer", "delays that steer a layout toward a target, with the lobe "
                                "report and maps",
                  ["thzarray steer designs/grid_steering.toml",
                   "thzarray steer designs/grid_steering.toml --toward '9 deg,0 deg' "
-                  "--write steered.toml"], cmd_steer, design)
+                  "--write steered.toml"], cmd_steer, design,
+                 note="With stored [steering].delays and no --toward, steer reports on them; "
+                      "--write writes the whole design with [steering] carrying the delays "
+                      "and the target, so that every later command uses both.")
     p.add_argument("--toward", help=toward)
-    p.add_argument("--write", type=Path, help="also write a new design file with these delays")
+    p.add_argument("--band", help=band)
+    p.add_argument("--write", type=Path, help="also write the design with these delays")
 
     p = _command(sub, "compare", "single, incoherent, phased and ideal N^2 energies",
                  ["thzarray compare designs/grid_steering.toml --json"], cmd_compare, design)
     p.add_argument("--toward", help=toward)
+    p.add_argument("--band", help=band)
     p.add_argument("--trials", type=int, default=400,
                    help="Monte Carlo trials of random phases (default 400)")
     p.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
 
     p = _command(sub, "tolerance", "Monte Carlo of timing jitter and placement errors",
-                 ["thzarray tolerance designs/grid_steering.toml"], cmd_tolerance, design)
+                 ["thzarray tolerance designs/grid_steering.toml",
+                  "thzarray tolerance designs/grid_steering.toml --jitter '0.5 ps'"],
+                 cmd_tolerance, design)
     p.add_argument("--toward", help=toward)
+    p.add_argument("--band", help=band)
+    p.add_argument("--jitter", help="rms timing jitter, e.g. '0.3 ps' (default: "
+                                    "[tolerance].timing_jitter)")
 
     p = _command(sub, "fit", "fit a measured angular scan: effective length, mismatch, "
                              "amplitude, background",
                  ["thzarray fit designs/scan_synthetic.csv",
-                  "thzarray fit scan.csv --freq '0.3 THz' --distance '1.5 m' --json",
-                  "thzarray fit scan.csv --fix background=0"], cmd_fit,
+                  "thzarray fit scan.csv --freq '0.3 THz' --range '1.5 m' --json",
+                  "thzarray fit scan.csv --fix background=0 --fix 'length=30 cm'"], cmd_fit,
                  ("data", "scan CSV file"),
-                 note="CSV: columns angle_deg (or angle_rad), signal, optional sigma; metadata "
-                      "lines '# freq = 0.3 THz', '# distance = 1.5 m'.")
+                 note="CSV: columns angle_deg (or angle_rad, angle_mrad), signal, optional "
+                      "sigma; metadata lines '# freq = 0.3 THz', '# range = 1.5 m' (the "
+                      "detector's range from the origin, about which the scan pivots).")
     p.add_argument("--freq", help="frequency, e.g. '0.3 THz' (default: the file's '# freq')")
-    p.add_argument("--distance", help="detector distance for a finite-distance fit, e.g. "
-                                      "'1.5 m' (default: the file's '# distance', else far field)")
+    p.add_argument("--range", help="range of the detector from the origin for a "
+                                   "finite-distance fit, e.g. '1.5 m' (default: the file's "
+                                   "'# range', else the far field)")
     p.add_argument("--fix", action="append", default=[], metavar="NAME=VALUE",
-                   help="hold a parameter fixed (SI), e.g. background=0; repeatable")
+                   help="hold a parameter fixed, with units, e.g. background=0 or "
+                        "'length=30 cm'; repeatable")
 
     p = _command(sub, "focus", "pick lens and pulse energy for a target cone: cone angle at "
                                "the band versus focal length and energy",
                  ["thzarray focus --angle '6 deg' --band '0.2 THz,0.4 THz' "
                   "--energy '0.5 mJ,1 mJ,2 mJ'"], cmd_focus)
     p.add_argument("--angle", required=True, help="target cone angle, e.g. '6 deg'")
-    p.add_argument("--band", required=True, help="receiver band LOW,HIGH, e.g. '0.2 THz,0.4 THz'")
+    p.add_argument("--band", required=True, help="receiver band LOW,HIGH, e.g. "
+                                                 "'0.2 THz,0.4 THz', or one frequency")
     p.add_argument("--energy", default="0.5 mJ,1 mJ,2 mJ,4 mJ", help="pulse energies, comma list")
     p.add_argument("--duration", default="50 fs", help="pulse duration (intensity FWHM)")
     p.add_argument("--beam-radius", default="5 mm", help="1/e^2 intensity radius at the lens")
@@ -171,7 +194,10 @@ def main(argv=None) -> int:
         if getattr(args, "func", None) is None:
             parser.print_help()
             return 2
-        return args.func(args)
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
+            args.caught = caught
+            return args.func(args)
     except (UsageError, ValueError) as exc:
         if debug:
             raise

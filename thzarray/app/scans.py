@@ -1,7 +1,8 @@
 """Measured angular scans: reading the CSV, fitting it, and the fit as JSON.
 
 Comma-separated text: ``#`` lines are comments, ``# key = value`` lines (before the header)
-metadata: ``# freq = 0.3 THz`` and ``# distance = 1.5 m`` become SI floats through a unit
+metadata: ``# freq = 0.3 THz`` and ``# range = 1.5 m`` (the range of the detector from the
+origin, for a finite-distance fit) become SI floats through a unit
 reader (``to_si``; the command line passes :func:`thzarray.app.units.parse_quantity`),
 other keys stay text. Then a header naming the columns ``angle_deg`` / ``angle_rad`` /
 ``angle_mrad``, ``signal`` and optionally ``sigma`` (one-standard-deviation uncertainty of
@@ -26,15 +27,21 @@ _MIN_ROWS = 6
 
 _ANGLE_UNITS = {"deg": np.pi / 180, "rad": 1.0, "mrad": 1e-3}
 _SIGMA_NAMES = ("sigma",)
-_METADATA_KINDS = {"freq": "frequency", "distance": "length"}
+_METADATA_KINDS = {"freq": "frequency", "range": "length"}
+# Physical ranges of the metadata (SI): the same as the design files'.
+_METADATA_RANGES = {"freq": (1e9, 1e14), "range": (1e-6, 1e6)}
 
 
 def _metadata_value(key, text, where, to_si):
-    """SI float for ``freq`` and ``distance`` through ``to_si``, else the text as written.
+    """SI float for ``freq`` and ``range`` through ``to_si``, else the text as written.
 
     Without ``to_si`` a plain number is taken as SI and a unit string stays text (the core
-    does not read unit strings; the command line passes thzarray.units.parse_quantity).
+    does not read unit strings; the command line passes thzarray.app.units.parse_quantity).
+    A value outside its physical range names how it was read and the unit probably meant.
     """
+    if key == "distance":
+        raise ValueError(f"{where}: 'distance' is not a scan key; allowed: '# range = 1.5 m' "
+                         "(the range of the detector from the origin)")
     if key not in _METADATA_KINDS:
         return text
     if to_si is None:
@@ -47,8 +54,14 @@ def _metadata_value(key, text, where, to_si):
             value = float(to_si(text, _METADATA_KINDS[key]))
         except ValueError as exc:
             raise ValueError(f"{where}: {key} = {exc}") from None
-    if not (np.isfinite(value) and value > 0):
-        raise ValueError(f"{where}: {key} = {text!r} is not allowed; allowed: a finite value > 0")
+    low, high = _METADATA_RANGES[key]
+    if not (np.isfinite(value) and low <= value <= high):
+        from thzarray.app.units import DIMENSIONS, suggest_unit
+
+        kind = _METADATA_KINDS[key]
+        hint = suggest_unit(kind, text, low, high)
+        raise ValueError(f"{where}: {key} = {str(text)[:40]!r}{hint} is not allowed; allowed: "
+                         f"{low:g} to {high:g} {DIMENSIONS[kind][1]}")
     return value
 
 
@@ -63,7 +76,7 @@ def parse_scan_csv(text: str, source: str = "scan", to_si=None):
         Where the text came from, for messages.
     to_si : callable, optional
         ``to_si(text, kind) -> float`` reading a unit string (``kind`` "frequency" for
-        ``freq``, "length" for ``distance``), e.g. :func:`thzarray.units.parse_quantity`;
+        ``freq``, "length" for ``range``), e.g. :func:`thzarray.app.units.parse_quantity`;
         raises ``ValueError`` for bad text. Without it those values are floats only when
         written as plain SI numbers.
 
@@ -75,7 +88,7 @@ def parse_scan_csv(text: str, source: str = "scan", to_si=None):
     sigma : ndarray, shape (N,), or None
         The uncertainty column when present.
     metadata : dict
-        ``# key = value`` lines: ``freq`` (Hz) and ``distance`` (m) as SI floats (see
+        ``# key = value`` lines: ``freq`` (Hz) and ``range`` (m) as SI floats (see
         ``to_si``), other keys as text.
 
     Raises
@@ -93,6 +106,9 @@ def parse_scan_csv(text: str, source: str = "scan", to_si=None):
             key, eq, value = line[1:].partition("=")
             if eq and header is None and re.fullmatch(r"\s*\w+\s*", key):
                 where = f"{source} line {line_no}"
+                if key.strip() in metadata:
+                    raise ValueError(f"{where}: {key.strip()!r} is given twice; allowed: each "
+                                     "'# key = value' line once")
                 metadata[key.strip()] = _metadata_value(key.strip(), value.strip(), where,
                                                         to_si)
             continue
@@ -177,8 +193,13 @@ def _json_number(value):
     return value if np.isfinite(value) else None
 
 
-def fit_summary(scan, path="scan", freq=None, distance=None, *, fixed=None,
-                polarization=None, to_si=None) -> dict:
+def _cli_words(message: str) -> str:
+    """A fit message in command-line syntax: ``fixed={'x': value}`` -> ``--fix x=VALUE``."""
+    return re.sub(r"fixed=\{'(\w+)': value\}", r"--fix \1=VALUE", message)
+
+
+def fit_summary(scan, path="scan", freq=None, range_=None, *, fixed=None,
+                polarization=None, to_si=None, cli=False) -> dict:
     """Fit a parsed scan and return a JSON-ready dict (for ``thzarray fit``).
 
     Parameters
@@ -191,40 +212,44 @@ def fit_summary(scan, path="scan", freq=None, distance=None, *, fixed=None,
     freq : float or str, optional
         Frequency (Hz, or a string such as ``"0.3 THz"`` read by ``to_si``); the file's
         ``# freq = ...`` line when omitted.
-    distance : float or str, optional
-        Detector distance (m, or a string read by ``to_si``); the file's
-        ``# distance = ...`` line when omitted; the far field when neither is given.
+    range_ : float or str, optional
+        Range of the detector from the origin (m, or a string read by ``to_si``); the
+        file's ``# range = ...`` line when omitted; the far field when neither is given.
     fixed : dict, optional
         Parameters held fixed (SI values), as for :func:`fit_scan`.
     polarization : 3-sequence of float, optional
         As for :func:`fit_scan`.
     to_si : callable, optional
         Reader of unit strings, as for :func:`parse_scan_csv`; the command line passes
-        :func:`thzarray.units.parse_quantity`.
+        :func:`thzarray.app.units.parse_quantity`.
+    cli : bool
+        Word the messages in command-line syntax (``--fix name=VALUE``).
 
     Returns
     -------
     dict
-        ``file``, ``model``, ``freq_hz``, ``distance_m``, ``params``, ``errors``, ``units``,
+        ``file``, ``model``, ``freq_hz``, ``range_m``, ``params``, ``errors``, ``units``,
         ``fixed``, ``correlation`` (``names``, ``matrix``), ``chi2``, ``dof``,
-        ``chi2_per_dof``, ``errors_scaled_by_chi2``, ``ok``, ``messages`` and
-        ``residuals`` (``angle_rad``, ``signal``, ``model``, ``residual``); non-finite
-        numbers become None.
+        ``chi2_per_dof``, ``errors_scaled_by_chi2``, ``ok``, ``messages``,
+        ``residuals`` (``angle_rad``, ``signal``, ``sigma``, ``model``, ``residual``) and
+        ``curve`` (the model on 400 angles spanning the scan); non-finite numbers become
+        None.
     """
     angle, signal, sigma, metadata = scan
     freq = _si("freq", metadata.get("freq") if freq is None else freq, to_si, str(path))
     if freq is None:
         raise ValueError(f"freq: not given and {path} has no '# freq = ...' line; allowed: a "
                          "frequency such as '0.3 THz'")
-    distance = _si("distance", metadata.get("distance") if distance is None else distance,
-                   to_si, str(path))
-    result = fit_scan(angle, signal, freq, distance=distance, sigma=sigma,
+    range_ = _si("range", metadata.get("range") if range_ is None else range_, to_si, str(path))
+    result = fit_scan(angle, signal, freq, distance=range_, sigma=sigma,
                       polarization=polarization, fixed=fixed)
+    fine = np.linspace(angle.min(), angle.max(), 400)
+    messages = [_cli_words(m) if cli else m for m in result.messages]
     return {
         "file": str(path),
         "model": result.kind,
         "freq_hz": _json_number(freq),
-        "distance_m": None if distance is None else _json_number(distance),
+        "range_m": None if range_ is None else _json_number(range_),
         "params": {k: _json_number(v) for k, v in result.params.items()},
         "errors": {k: _json_number(v) for k, v in result.errors.items()},
         "units": {k: UNITS[k] for k in result.params},
@@ -236,9 +261,11 @@ def fit_summary(scan, path="scan", freq=None, distance=None, *, fixed=None,
         "chi2_per_dof": _json_number(result.chi2_dof),
         "errors_scaled_by_chi2": bool(result.errors_scaled),
         "ok": bool(result.ok),
-        "messages": list(result.messages),
+        "messages": messages,
         "residuals": {"angle_rad": angle.tolist(), "signal": signal.tolist(),
+                      "sigma": None if sigma is None else sigma.tolist(),
                       "model": result.model.tolist(), "residual": result.residuals.tolist()},
+        "curve": {"angle_rad": fine.tolist(), "model": result.evaluate(fine).tolist()},
     }
 
 
@@ -253,10 +280,10 @@ def read_scan(path, to_si=None):
     return parse_scan_csv(read_text(path, "scan"), source=str(path), to_si=to_si)
 
 
-def fit_command_result(path, freq=None, distance=None, *, fixed=None, polarization=None,
-                       to_si=None) -> dict:
+def fit_command_result(path, freq=None, range_=None, *, fixed=None, polarization=None,
+                       to_si=None, cli=False) -> dict:
     """Read and fit a scan file; the JSON-ready dict of :func:`fit_summary`."""
     if to_si is None:
         from thzarray.app.units import parse_quantity as to_si
-    return fit_summary(read_scan(path, to_si), str(path), freq, distance, fixed=fixed,
-                       polarization=polarization, to_si=to_si)
+    return fit_summary(read_scan(path, to_si), str(path), freq, range_, fixed=fixed,
+                       polarization=polarization, to_si=to_si, cli=cli)

@@ -12,6 +12,7 @@ from pathlib import Path
 
 import numpy as np
 
+from thzarray.app.files import MAX_TABLE_BYTES, read_text_capped
 from thzarray.app.output import write_text
 from thzarray.array.layouts import check_separation
 from thzarray.detect.receivers import BroadbandDetector
@@ -26,12 +27,8 @@ CSV_COLUMNS = ("x_m", "y_m", "z_m", "axis_x", "axis_y", "axis_z", "length_m", "d
 
 
 def read_text(path, what: str) -> str:
-    """The UTF-8 text of a file; an unreadable one raises ValueError naming ``what``."""
-    try:
-        return Path(path).read_text(encoding="utf-8")
-    except OSError as exc:
-        raise ValueError(f"{what} = {str(path)!r} cannot be read ({exc.strerror}); allowed: a "
-                         "readable CSV file") from None
+    """The UTF-8 text of a table file (regular, at most 16 MiB, BOM accepted)."""
+    return read_text_capped(path, MAX_TABLE_BYTES, what)
 
 
 def layout_to_csv(layout) -> str:
@@ -55,8 +52,67 @@ def layout_to_csv(layout) -> str:
     return "\n".join(rows) + "\n"
 
 
-def layout_from_csv(text: str) -> tuple:
-    """Parse CSV text written by :func:`layout_to_csv` (lines starting with ``#`` are skipped).
+_LAYOUT_COLUMNS = {
+    # name: (kind of its unit, required, default)
+    "x": ("length", True, None), "y": ("length", True, None), "z": ("length", False, 0.0),
+    "axis_x": ("number", False, None), "axis_y": ("number", False, None),
+    "axis_z": ("number", False, None), "length": ("length", False, None),
+    "delay": ("time", False, 0.0), "amplitude": ("number", False, 1.0),
+}
+_MAX_ROWS = 100_000
+
+
+def _layout_header(header: str, lineno: int):
+    """Column index -> (name, SI factor) from a header such as ``x_mm,y_mm,delay_ps``."""
+    from thzarray.app.units import UnitError, parse_quantity
+
+    allowed = ("x_<unit>, y_<unit> (required), z_<unit>, axis_x, axis_y, axis_z, "
+               "length_<unit>, delay_<unit>, amplitude; e.g. x_mm,y_mm,delay_ps")
+    columns = {}
+    for j, raw in enumerate(header.split(",")):
+        cell = raw.strip()
+        name, unit = (cell, "") if cell in _LAYOUT_COLUMNS else cell.rpartition("_")[::2]
+        if name not in _LAYOUT_COLUMNS or name in columns.values():
+            raise ValueError(f"layout table header (line {lineno}): column {cell[:40]!r} is "
+                             f"unknown or repeated; allowed: {allowed}")
+        kind = _LAYOUT_COLUMNS[name][0]
+        if kind == "number":
+            if unit:
+                raise ValueError(f"layout table header (line {lineno}): column {cell[:40]!r} "
+                                 f"takes no unit; allowed: {name}")
+            factor = 1.0
+        else:
+            if not unit:
+                raise ValueError(f"layout table header (line {lineno}): column {cell[:40]!r} "
+                                 f"needs a unit, e.g. {name}_mm; allowed: {allowed}")
+            try:
+                factor = parse_quantity(f"1 {unit}", kind)
+            except UnitError:
+                raise ValueError(f"layout table header (line {lineno}): column {cell[:40]!r} "
+                                 f"has no {kind} unit {unit[:20]!r}; allowed: {allowed}") from None
+        columns[j] = (name, factor)
+    names = {n for n, _ in columns.values()}
+    for need in ("x", "y"):
+        if need not in names:
+            raise ValueError(f"layout table header (line {lineno}) has no {need!r} column; "
+                             f"allowed: {allowed}")
+    axes = {"axis_x", "axis_y", "axis_z"} & names
+    if axes and len(axes) != 3:
+        raise ValueError(f"layout table header (line {lineno}) gives {sorted(axes)}; allowed: "
+                         "all three of axis_x, axis_y, axis_z or none")
+    return columns
+
+
+def layout_from_csv(text: str, *, default_length=None, center=(0.0, 0.0, 0.0),
+                    axis=(0.0, 0.0, 1.0)) -> tuple:
+    """Parse a layout table: one column per row, units in the header.
+
+    The header names the columns with their units, ``x_mm,y_mm,z_m,delay_ps`` (any length
+    or time unit; ``axis_x, axis_y, axis_z`` and ``amplitude`` are plain numbers). ``x`` and
+    ``y`` are required; ``z`` defaults to 0, the axis to ``axis``, the length to
+    ``default_length``, the delay to 0 and the amplitude to 1. Positions are relative to
+    ``center``. Lines starting with ``#`` are comments. :func:`layout_to_csv` writes the
+    same format with every column in SI.
 
     Raises
     ------
@@ -68,25 +124,35 @@ def layout_from_csv(text: str) -> tuple:
     if not lines:
         raise ValueError("layout table is empty; allowed: a header and at least one row")
     lineno, header = lines[0]
-    names = tuple(h.strip() for h in header.split(","))
-    if names != CSV_COLUMNS:
-        raise ValueError(f"layout table header (line {lineno}) = {header!r}; allowed: "
-                         f"{','.join(CSV_COLUMNS)}")
+    columns = _layout_header(header, lineno)
+    if "length" not in {n for n, _ in columns.values()} and default_length is None:
+        raise ValueError(f"layout table header (line {lineno}) has no length column and the "
+                         "design gives no [layout].length; allowed: one of them")
+    if len(lines) - 1 > _MAX_ROWS:
+        raise ValueError(f"layout table has {len(lines) - 1} rows; allowed: at most {_MAX_ROWS}")
+    c0 = np.asarray(center, dtype=float)
     fils = []
     for lineno, row in lines[1:]:
         cells = row.split(",")
-        if len(cells) != len(CSV_COLUMNS):
+        if len(cells) != len(columns):
             raise ValueError(f"layout table line {lineno} has {len(cells)} cells; allowed: "
-                             f"{len(CSV_COLUMNS)}")
-        vals = []
-        for name, cell in zip(CSV_COLUMNS, cells):
+                             f"{len(columns)}, one per header column")
+        vals = {n: d for n, (_, _, d) in _LAYOUT_COLUMNS.items()}
+        for j, cell in enumerate(cells):
+            name, factor = columns[j]
             try:
-                vals.append(float(cell))
+                v = float(cell) * factor
             except ValueError:
-                raise ValueError(f"layout table line {lineno}, {name} = {cell.strip()!r}; "
-                                 "allowed: a real number") from None
+                v = float("nan")
+            if not np.isfinite(v):
+                raise ValueError(f"layout table line {lineno}, {name} = {cell.strip()[:40]!r}; "
+                                 "allowed: a finite real number") from None
+            vals[name] = v
+        ax = axis if vals["axis_x"] is None else (vals["axis_x"], vals["axis_y"], vals["axis_z"])
+        length = default_length if vals["length"] is None else vals["length"]
+        start = tuple((c0 + (vals["x"], vals["y"], vals["z"])).tolist())
         try:
-            fils.append(Filament(vals[6], tuple(vals[0:3]), tuple(vals[3:6]), vals[7], vals[8]))
+            fils.append(Filament(length, start, ax, vals["delay"], vals["amplitude"]))
         except ValueError as exc:
             raise ValueError(f"layout table line {lineno}: {exc}") from None
     if not fils:
@@ -132,9 +198,9 @@ def parse_response_csv(text: str, path="response"):
     return rows[:, 0].copy(), rows[:, 1].copy()
 
 
-def read_layout(path) -> tuple:
-    """Layout (tuple of Filament) from a CSV table (columns in :data:`CSV_COLUMNS`)."""
-    return layout_from_csv(read_text(path, "layout"))
+def read_layout(path, **kw) -> tuple:
+    """Layout (tuple of Filament) from a CSV table (format in :func:`layout_from_csv`)."""
+    return layout_from_csv(read_text(path, "layout"), **kw)
 
 
 def write_layout(path, layout, force: bool = False) -> Path:

@@ -1,20 +1,27 @@
-r"""Range budget: energy into a receiver versus distance and humidity.
+r"""Range budget: energy into a receiver versus range and humidity.
 
-For a receiver at distance R from the origin in the direction :math:`\hat r(\theta,\phi)`,
-in the far field of the layout (check with :func:`thzarray.field.surfaces.far_field_departure`),
+The receiver sits at range R from the origin in the direction :math:`\hat r(\theta,\phi)`,
+facing the origin. Its energy is
 
 .. math:: W(R, h) = \sum_j w_j\,A\,2n_T\varepsilon_0 c\,
-          \frac{|\hat p\cdot\mathbf F_h(f_j,\hat r)|^2}{R^2}\,e^{-\alpha_h(f_j) R},
+          |\hat p\cdot\mathbf E_h(f_j, R\hat r)|^2\,e^{-\alpha_h(f_j) R},
 
-with the radiation vector :math:`\mathbf F_h` of :func:`thzarray.field.farfield.far_field` in the medium's air at
-relative humidity h (the THz index, hence the cone, changes with humidity: ITU-R P.453, the
-same :class:`~thzarray.air.medium.Medium`), the power attenuation coefficient
-:math:`\alpha_h` of ITU-R P.676 (:mod:`thzarray.air.absorption`), and the receiver's
-weights: for a
-:class:`~thzarray.detectors.NarrowbandReceiver` the pass-band weights, its polarization
-:math:`\hat p` and its plane-wave effective area (A, or :math:`2\pi w_0^2` for a Gaussian
-beam); for a :class:`~thzarray.detectors.BroadbandDetector` facing the source, its
-response times trapezoid weights, area A and the full transverse field.
+with the exact finite-distance field :math:`\mathbf E_h` of
+:func:`thzarray.field.nearfield.field_at` (Jackson eq. 9.18 along each column) in the
+medium's air at relative humidity h (the THz index, hence the cone, changes with humidity:
+ITU-R P.453, the same :class:`~thzarray.air.medium.Medium`), the power attenuation
+coefficient :math:`\alpha_h` of ITU-R P.676 (:mod:`thzarray.air.absorption`) along the
+range, and the receiver's weights: for a :class:`~thzarray.detect.receivers.NarrowbandReceiver`
+the pass-band weights, its polarization :math:`\hat p` and its plane-wave effective area
+(A, or :math:`2\pi w_0^2` for a Gaussian beam); for a
+:class:`~thzarray.detect.receivers.BroadbandDetector` its response times the band weights,
+its area A and the field transverse to the line of sight.
+
+Beside it the budget gives the far-field prediction (the radiation vector of
+:func:`thzarray.field.farfield.far_field` over R, :math:`\mathbf E \approx \mathbf F e^{ikR}/R`)
+and its relative error at each range, so that the distance from which the far field may be
+trusted is read off the same table (a column of length L is far-field only at ranges of
+several L and more; :func:`thzarray.field.surfaces.far_field_departure`).
 """
 
 from __future__ import annotations
@@ -28,6 +35,7 @@ from thzarray.air.absorption import attenuation_coefficient
 from thzarray.air.medium import Medium
 from thzarray.base.band import band_weights, check_band, passband_weights
 from thzarray.base.checks import as_float_array, check_scalar
+from thzarray.base.geometry import unit_vectors
 from thzarray.detect.receivers import BroadbandDetector, NarrowbandReceiver
 from thzarray.field.farfield import far_field
 from thzarray.source.filament import as_filaments
@@ -42,8 +50,8 @@ class RangeBudget:
 
     Attributes
     ----------
-    distance : ndarray, shape (D,)
-        Range from the origin (m).
+    ranges : ndarray, shape (D,)
+        Ranges of the receiver from the origin (m).
     relative_humidity : ndarray, shape (H,)
         Relative humidity (fraction); NaN for a vacuum medium.
     freq : ndarray, shape (F,)
@@ -51,20 +59,26 @@ class RangeBudget:
     theta, phi : float
         Direction of the receiver (rad).
     energy : ndarray, shape (H, D)
-        Energy per pulse into the receiver (J; per (A s)^2 without a plasma).
+        Energy per pulse into the receiver (J; per (A s)^2 without a plasma), exact field.
     free_space_energy : ndarray, shape (H, D)
-        The same without gaseous absorption (spreading, aperture and band only).
+        The same without gaseous absorption.
+    far_field_energy : ndarray, shape (H, D)
+        The far-field prediction of ``energy``.
+    far_field_error : ndarray, shape (H, D)
+        ``far_field_energy / energy - 1``.
     attenuation : ndarray, shape (H, F)
         Power attenuation coefficient alpha (1/m) at each humidity and frequency.
     """
 
-    distance: np.ndarray
+    ranges: np.ndarray
     relative_humidity: np.ndarray
     freq: np.ndarray
     theta: float
     phi: float
     energy: np.ndarray
     free_space_energy: np.ndarray
+    far_field_energy: np.ndarray
+    far_field_error: np.ndarray
     attenuation: np.ndarray
 
     @property
@@ -73,23 +87,25 @@ class RangeBudget:
         return 10 * np.log10(self.free_space_energy / self.energy)
 
 
-def _receiver_weights(receiver, freq, ff):
-    """Per-frequency factor A * w_j * |p.F|^2 ((V s)^2 m^2 Hz), shape (F,)."""
+def _receiver_factor(receiver, freq, field, rhat):
+    """Per-frequency A * w_j * |p.E|^2 (or |E_perp|^2 for a broadband detector), (F, ...)."""
     if isinstance(receiver, NarrowbandReceiver):
         wts = passband_weights(freq, *receiver.band)
-        amp = np.abs(ff.cartesian @ np.asarray(receiver.polarization)) ** 2
-        return receiver.effective_area * wts * amp
+        amp = np.abs(field @ np.asarray(receiver.polarization)) ** 2
+        return receiver.effective_area * wts.reshape((-1,) + (1,) * (amp.ndim - 1)) * amp
     if isinstance(receiver, BroadbandDetector):
         wts = band_weights(freq, receiver.response_at(freq))
-        return receiver.area * wts * ff.magnitude_squared
+        transverse = field - (field @ rhat)[..., None] * rhat
+        amp = np.sum(np.abs(transverse) ** 2, axis=-1)
+        return receiver.area * wts.reshape((-1,) + (1,) * (amp.ndim - 1)) * amp
     raise ValueError(f"receiver = {type(receiver).__name__}; allowed: NarrowbandReceiver or "
                      "BroadbandDetector")
 
 
-def range_budget(filaments, receiver, freq, distance, theta, phi=0.0,
+def range_budget(filaments, receiver, freq, ranges, theta, phi=0.0,
                  medium: Medium | None = None, relative_humidity=None,
                  plasma: Plasma | None = None) -> RangeBudget:
-    """Energy into a receiver versus range and humidity (far field + P.676 absorption).
+    """Energy into a receiver versus range and humidity (exact field + P.676 absorption).
 
     Parameters
     ----------
@@ -98,8 +114,8 @@ def range_budget(filaments, receiver, freq, distance, theta, phi=0.0,
     freq : array_like, shape (F,)
         Increasing frequencies (Hz) sampling the receiver's band (spanning a narrow-band
         receiver's pass band).
-    distance : array_like, shape (D,)
-        Ranges from the origin (m), > 0.
+    ranges : array_like, shape (D,)
+        Ranges of the receiver from the origin (m), > 0, each outside the columns.
     theta, phi : float
         Direction of the receiver from the origin (rad).
     medium : Medium, optional
@@ -117,30 +133,44 @@ def range_budget(filaments, receiver, freq, distance, theta, phi=0.0,
 
     Notes
     -----
-    .. math:: W = \\sum_j w_j A\\,2n_T\\varepsilon_0 c|\\hat p\\cdot\\mathbf F|^2 R^{-2}
+    .. math:: W = \\sum_j w_j A\\,2n_T\\varepsilon_0 c|\\hat p\\cdot\\mathbf E(R\\hat r)|^2
               e^{-\\alpha R}
+
+    (module docstring), beside the far-field prediction with
+    :math:`\\mathbf E = \\mathbf F e^{ikR} / R`.
     """
+    from thzarray.field.nearfield import field_at
+
     fils = as_filaments(filaments)
     medium = Medium.vacuum() if medium is None else medium
     f = check_band(freq, minimum=2)
-    dist = as_float_array("distance", distance, low=0.0, low_open=True, unit="m").reshape(-1)
+    dist = as_float_array("ranges", ranges, low=0.0, low_open=True, unit="m").reshape(-1)
     th = check_scalar("theta", theta, low=0.0, high=np.pi, unit="rad")
     ph = check_scalar("phi", phi, unit="rad")
     if relative_humidity is None:
         media = [medium]
-        rh = np.array([np.nan if medium.conditions is None else medium.conditions.relative_humidity])
+        rh = np.array([np.nan if medium.conditions is None
+                       else medium.conditions.relative_humidity])
     else:
         rh = as_float_array("relative_humidity", relative_humidity, low=0.0,
                             high=1.0).reshape(-1)
         media = [medium.with_humidity(h) for h in rh]
-    energy = np.empty((rh.size, dist.size))
-    free = np.empty((rh.size, dist.size))
-    alpha = np.empty((rh.size, f.size))
+    rhat = unit_vectors(th, ph)[0]
+    points = dist[:, None] * rhat
+    shape = (rh.size, dist.size)
+    energy, free, far, alpha = (np.empty(shape), np.empty(shape), np.empty(shape),
+                                np.empty((rh.size, f.size)))
     for i, med in enumerate(media):
-        ff = far_field(fils, f, th, ph, med, plasma)
-        per_freq = 2 * med.n_thz * epsilon_0 * c * _receiver_weights(receiver, f, ff)
+        scale = 2 * med.n_thz * epsilon_0 * c
+        ff = far_field(fils, f, th, ph, med, plasma).cartesian  # (F, 3)
+        far_per = scale * _receiver_factor(receiver, f, ff, rhat)  # (F,)
+        exact = field_at(fils, f[:, None], points[None, :, :], med, plasma)  # (F, D, 3)
+        exact_per = scale * _receiver_factor(receiver, f, exact, rhat)  # (F, D)
         alpha[i] = attenuation_coefficient(f, med)
-        loss = np.exp(-alpha[i][None, :] * dist[:, None])
-        free[i] = per_freq.sum() / dist**2
-        energy[i] = (loss * per_freq[None, :]).sum(axis=1) / dist**2
-    return RangeBudget(dist, rh, f, th, ph, energy, free, alpha)
+        loss = np.exp(-alpha[i][:, None] * dist[None, :])  # (F, D)
+        free[i] = exact_per.sum(axis=0)
+        energy[i] = (loss * exact_per).sum(axis=0)
+        far[i] = (loss * far_per[:, None]).sum(axis=0) / dist**2
+    with np.errstate(divide="ignore", invalid="ignore"):
+        error = np.where(energy > 0, far / energy - 1.0, 0.0)
+    return RangeBudget(dist, rh, f, th, ph, energy, free, far, error, alpha)

@@ -11,17 +11,20 @@ import numpy as np
 from thzarray.app.commands.common import (
     SAFETY,
     UsageError,
+    band_flag,
     csv,
+    design_notes,
     emit,
     medium_from_flags,
     quantity,
     quantity_list,
     slug_of,
     spinner,
+    toward,
     write_all,
 )
 
-__all__ = ['cmd_check', 'cmd_cone', 'cmd_fit', 'cmd_focus', 'cmd_pattern', 'cmd_safety']
+__all__ = ["cmd_check", "cmd_cone", "cmd_fit", "cmd_focus", "cmd_pattern", "cmd_safety"]
 
 
 def cmd_safety(args):
@@ -43,102 +46,132 @@ def cmd_cone(args):
         text = (f"cone angle {np.degrees(angle):.4g} deg for {length * 100:.4g} cm of plasma "
                 f"at {freq / 1e12:.4g} THz")
     else:
-        angle = quantity("angle", args.angle, "angle")
+        angle = quantity("angle", args.angle, "angle", (0.0, np.pi / 2, True))
         length = float(length_for_cone(angle, freq, medium))
         result = dict(base, cone_angle_rad=angle, cone_angle_deg=float(np.degrees(angle)),
                       length_m=length)
         text = (f"plasma length {length * 100:.4g} cm gives a {np.degrees(angle):.4g} deg cone "
                 f"at {freq / 1e12:.4g} THz")
-    emit(args, result, text)
+    emit(args, result, text + f" (group index {medium.n_group:.8g}, THz index "
+                              f"{medium.n_thz:.8g})")
     return 0
 
 
 def cmd_check(args):
     from thzarray.app.design import load_design
+    from thzarray.app.jobs import phasing
 
     d = load_design(args.design)
+    phased = phasing(d)
     result = {"design": d.name, "valid": True, "filaments": len(d.filaments),
-              "grid_points": int(d.grid.freq.size * d.grid.theta.size * d.grid.phi.size)}
-    emit(args, result, f"{args.design}: valid ({len(d.filaments)} filament(s))")
+              "grid_points": int(d.grid.size), **phased.summary()}
+    if d.estimate is not None:
+        e = d.estimate
+        result["laser"] = {"power_ratio": e.power_ratio, "onset_m": e.onset, "end_m": e.end,
+                           "length_m": e.length, "limited_by": e.limited_by,
+                           "electron_density_m3": e.electron_density,
+                           "critical_power_w": e.critical_power}
+    text = f"{args.design}: valid ({len(d.filaments)} filament(s)); {phased.describe()}"
+    emit(args, result, text, design_notes(d, "check"))
     return 0
 
 
-def _pattern_outputs(design, out: Path, force: bool, quiet: bool):
+def _pattern_outputs(args, design):
     from thzarray.app import jobs
-    from thzarray.app.output import check_writable, write_text
     from thzarray.app.plots import interactive, static
 
     slug = slug_of(design.name)
     chart = jobs.cone_chart(design)
-    pat = jobs.pattern(design)
+    pat = jobs.pattern(design, toward=toward(args))
     title = design.name
-    files = []
-    planned = []
-    formats = set(design.formats)
-    for kind in ("cone_chart", "sky", "cuts"):
-        for ext in ("png", "pdf", "html"):
-            if ext in formats:
-                planned.append(out / f"{slug}_{kind}.{ext}")
-    if "csv" in formats:
-        planned.append(out / f"{slug}_cuts.csv")
-    if "netcdf" in formats:
-        planned.append(out / f"{slug}_pattern.nc")
-    for path in planned:
-        check_writable(path, force)  # refuse before computing or writing anything
-    out.mkdir(parents=True, exist_ok=True)
     unit = "J/(Hz sr)" if pat.absolute else "J/(Hz sr) per (A s)^2"
     label = f"energy density ({unit})"
     cut = pat.energy_density.mean(axis=2)
-    figs = {
-        "cone_chart": (static.cone_chart(chart.lengths, chart.freqs, chart.angles,
-                                         f"{title}: cone angle vs plasma length",
-                                         chart.target_angle, chart.target_lengths),
-                       interactive.cone_chart(chart.lengths, chart.freqs, chart.angles,
-                                              f"{title}: cone angle vs plasma length",
-                                              chart.target_angle, chart.target_lengths)),
-        "sky": (static.sky_map(np.degrees(pat.sky_x), np.degrees(pat.sky_y), pat.sky[0],
-                               f"{title}: sky map at {pat.freq[0] / 1e12:.3g} THz",
-                               pol=(pat.sky_pol[0, 0], pat.sky_pol[1, 0]), label=label),
-                interactive.sky_map(np.degrees(pat.sky_x), np.degrees(pat.sky_y), pat.sky,
-                                    pat.freq, f"{title}: sky map",
-                                    pol=(pat.sky_pol[0], pat.sky_pol[1]), label=label)),
-        "cuts": (static.cone_cuts(pat.theta, pat.freq, cut, f"{title}: cuts through the cone",
+    chart_title = f"{title}: cone angle vs plasma length"
+    chart_caption = ("Cone angle of one uniform column versus its length at "
+                     + ", ".join(f"{f / 1e12:.3g}" for f in chart.freqs) + " THz"
+                     + ("" if chart.target_angle is None else
+                        f"; target {np.degrees(chart.target_angle):.3g} deg reached at "
+                        + ", ".join("-" if not np.isfinite(v) else f"{100 * v:.3g} cm"
+                                    for v in chart.target_lengths)))
+    cones = ", ".join(f"{np.degrees(a):.3g} deg at {f / 1e12:.3g} THz"
+                      for a, f in zip(pat.cone_angles, pat.freq))
+    sky_caption = (f"Sky map at {pat.freq[0] / 1e12:.3g} THz with the local polarization "
+                   f"(white strokes); cone {cones}; delays: {pat.phased.how}")
+    cut_caption = f"Azimuth-averaged cuts through the cone: maxima at {cones}"
+    figures = [
+        (f"{slug}_cone_chart",
+         lambda: static.cone_chart(chart.lengths, chart.freqs, chart.angles, chart_title,
+                                   chart.target_angle, chart.target_lengths),
+         lambda: interactive.cone_chart(chart.lengths, chart.freqs, chart.angles, chart_title,
+                                        chart.target_angle, chart.target_lengths),
+         chart_caption),
+        (f"{slug}_sky",
+         lambda: static.sky_map(np.degrees(pat.sky_x), np.degrees(pat.sky_y), pat.sky[0],
+                                f"{title}: sky map at {pat.freq[0] / 1e12:.3g} THz",
+                                pol=(pat.sky_pol[0, 0], pat.sky_pol[1, 0]), label=label),
+         lambda: interactive.sky_map(np.degrees(pat.sky_x), np.degrees(pat.sky_y), pat.sky,
+                                     pat.freq, f"{title}: sky map",
+                                     pol=(pat.sky_pol[0], pat.sky_pol[1]), label=label),
+         sky_caption),
+        (f"{slug}_cuts",
+         lambda: static.cone_cuts(pat.theta, pat.freq, cut, f"{title}: cuts through the cone",
                                   label=label),
-                 interactive.cone_cuts(pat.theta, pat.freq, cut,
-                                       f"{title}: cuts through the cone", label=label)),
-    }
-    for kind, (sfig, ifig) in figs.items():
-        for ext in ("png", "pdf"):
-            if ext in formats:
-                files.append(static.save(sfig, out / f"{slug}_{kind}.{ext}", force))
-        if "html" in formats:
-            files.append(interactive.save(ifig, out / f"{slug}_{kind}.html", force))
-    if "csv" in formats:
-        lines = ["theta_rad," + ",".join(f"energy_density_{f / 1e12:.4g}THz" for f in pat.freq)]
-        for i, t in enumerate(pat.theta):
-            lines.append(f"{t:.9g}," + ",".join(f"{v:.9g}" for v in cut[:, i]))
-        files.append(write_text(out / f"{slug}_cuts.csv", "\n".join(lines) + "\n", force))
-    if "netcdf" in formats:
-        from thzarray.app.netcdf import pattern_dataset, write_netcdf
+         lambda: interactive.cone_cuts(pat.theta, pat.freq, cut,
+                                       f"{title}: cuts through the cone", label=label),
+         cut_caption),
+    ]
+    lines = ["theta_rad," + ",".join(f"energy_density_{f / 1e12:.4g}THz" for f in pat.freq)]
+    lines += [f"{t:.9g}," + ",".join(f"{v:.9g}" for v in cut[:, i])
+              for i, t in enumerate(pat.theta)]
+    datasets = []
+    if "netcdf" in design.formats:
+        from thzarray.app.netcdf import pattern_dataset
 
-        files.append(write_netcdf(pattern_dataset(pat, design.name), out / f"{slug}_pattern.nc",
-                                  force))
-    summary = dict(chart.summary(), **pat.summary())
-    summary["design"] = design.name
-    summary["files"] = [str(f) for f in files]
-    return summary
+        datasets = [(f"{slug}_pattern", pattern_dataset(pat, design.name))]
+    captions = {}
+    files = write_all(args.out, args.force, design.formats, figures=figures,
+                      tables=[(f"{slug}_cuts", "\n".join(lines) + "\n")], datasets=datasets,
+                      captions=captions)
+    summary = dict(chart.summary(), **pat.summary(), design=design.name, files=files,
+                   captions=captions)
+    return summary, pat
 
 
 def cmd_pattern(args):
     from thzarray.app.design import load_design
 
     design = load_design(args.design)
-    summary = _pattern_outputs(design, args.out, args.force, args.quiet)
+    summary, pat = _pattern_outputs(args, design)
     cones = ", ".join(f"{a:.3g} deg at {f / 1e12:.3g} THz"
                       for a, f in zip(summary["cone_angle_deg"], summary["freq_hz"]))
     emit(args, summary, f"{design.name}: cone {cones}; wrote {len(summary['files'])} files "
-                         f"to {args.out}")
+                        f"to {args.out}\ndelays: {pat.phased.how}",
+         design_notes(design, "pattern"))
     return 0
+
+
+_FIX_KINDS = {"length": "length", "start": "length", "mismatch": "number",
+              "amplitude": "number", "background": "number", "spacing": "length",
+              "timing_offset": "time"}
+
+
+def _fixed(items) -> dict:
+    from thzarray.app.units import UnitError, parse_quantity
+
+    fixed = {}
+    for item in items:
+        name, sep, value = item.partition("=")
+        name = name.strip()
+        if not sep or name not in _FIX_KINDS:
+            raise UsageError(f"--fix: {item[:60]!r} is not allowed; allowed: NAME=VALUE with "
+                             f"NAME one of {', '.join(_FIX_KINDS)}, e.g. background=0 or "
+                             "'length=30 cm'")
+        try:
+            fixed[name] = parse_quantity(value.strip(), _FIX_KINDS[name])
+        except UnitError as exc:
+            raise UsageError(f"--fix: {name}: {exc}") from None
+    return fixed
 
 
 def cmd_fit(args):
@@ -146,46 +179,48 @@ def cmd_fit(args):
     from thzarray.app.scans import fit_command_result
     from thzarray.app.units import parse_quantity
 
-    fixed = {}
-    for item in args.fix:
-        name, sep, value = item.partition("=")
-        if not sep or not name.strip():
-            raise UsageError(f"--fix: {item!r} is not allowed; allowed: NAME=VALUE, e.g. "
-                             "background=0")
-        try:
-            fixed[name.strip()] = float(value)
-        except ValueError:
-            raise UsageError(f"--fix: {item!r} has a value that is not a number; allowed: "
-                             "NAME=VALUE in SI units") from None
+    fixed = _fixed(args.fix)
     freq = None if args.freq is None else quantity("freq", args.freq, "frequency")
-    distance = None if args.distance is None else quantity("distance", args.distance, "length")
-    result = fit_command_result(args.data, freq=freq, distance=distance, fixed=fixed or None,
-                                to_si=parse_quantity)
+    rng = None if args.range is None else quantity("range", args.range, "length")
+    result = fit_command_result(args.data, freq=freq, range_=rng, fixed=fixed or None,
+                                to_si=parse_quantity, cli=True)
     res = result["residuals"]
+    curve = result["curve"]
     slug = slug_of(Path(args.data).stem)
-    title = f"fit of {Path(args.data).name}"
+    title = f"fit of {Path(args.data).name} ({result['model']})"
+    params = ", ".join(f"{k} = {v:.4g}" for k, v in result["params"].items() if v is not None)
+    captions = {}
+    sigma = res.get("sigma")
     result["files"] = write_all(
         args.out, args.force, ("png", "html", "csv"),
         figures=[(f"{slug}_fit",
                   lambda: static.fit_plot(np.asarray(res["angle_rad"]), res["signal"],
-                                          res["model"], res.get("sigma"), title),
+                                          res["model"], sigma, title,
+                                          curve=(np.asarray(curve["angle_rad"]),
+                                                 curve["model"])),
                   lambda: interactive.fit_plot(np.asarray(res["angle_rad"]), res["signal"],
-                                               res["model"], res.get("sigma"), title))],
+                                               res["model"], sigma, title,
+                                               curve=(np.asarray(curve["angle_rad"]),
+                                                      curve["model"])),
+                  f"Measured scan with its fitted model and residuals: {params}; chi2/dof "
+                  f"{result['chi2_per_dof']:.3g}")],
         tables=[(f"{slug}_fit_residuals",
                  csv(["angle_rad", "signal", "model", "residual"],
-                      [res["angle_rad"], res["signal"], res["model"], res["residual"]]))])
+                     [res["angle_rad"], res["signal"], res["model"], res["residual"]]))],
+        captions=captions)
+    result["captions"] = captions
     units = result.get("units", {})
-    lines = [f"{Path(args.data).name}: {result['model']} fit, chi2/dof "
-             f"{result['chi2_per_dof']:.3g}" if result.get("chi2_per_dof") is not None else
-             f"{Path(args.data).name}: {result['model']} fit"]
+    head = f"{Path(args.data).name}: {result['model']} fit"
+    if result.get("chi2_per_dof") is not None:
+        head += f", chi2/dof {result['chi2_per_dof']:.3g}"
+    lines = [head]
     for name, value in result["params"].items():
         err = result["errors"].get(name)
         unit = units.get(name, "")
         unit = "" if unit in ("1", "dimensionless") else unit
         lines.append(f"  {name} = {value:.6g} +- {err:.2g} {unit}".rstrip() if err is not None
                      else f"  {name} = {value:.6g} {unit} (fixed or unconstrained)".rstrip())
-    lines += [f"note: {m}" for m in result.get("messages", [])]
-    emit(args, result, "\n".join(lines))
+    emit(args, result, "\n".join(lines), result.get("messages", []))
     return 0
 
 
@@ -195,47 +230,83 @@ def cmd_focus(args):
     from thzarray.source.laser import Pulse
 
     medium = medium_from_flags(args)
-    angle = quantity("angle", args.angle, "angle")
-    band = quantity_list("band", args.band, "frequency")
+    angle = quantity("angle", args.angle, "angle", (0.0, np.pi / 2, True))
+    band = band_flag(args)
     energy = quantity_list("energy", args.energy, "energy")
     focal_range = quantity_list("focal", args.focal, "length")
-    if band.size != 2 or band[1] <= band[0]:
-        raise UsageError(f"--band: {args.band!r} is not allowed; allowed: LOW,HIGH with LOW < HIGH")
     if focal_range.size != 2 or not 0 < focal_range[0] < focal_range[1]:
         raise UsageError(f"--focal: {args.focal!r} is not allowed; allowed: LOW,HIGH with "
                          "0 < LOW < HIGH")
-    freq = np.linspace(band[0], band[1], 9)
+    freq = band[0] if band.size == 1 else np.linspace(band[0], band[1], 9)
+    band_text = (f"{band[0] / 1e12:.3g} THz" if band.size == 1
+                 else f"{band[0] / 1e12:.3g}-{band[1] / 1e12:.3g} THz")
     pulse = Pulse(float(energy[0]), duration=quantity("duration", args.duration, "time"),
-                  beam_radius=quantity("beam-radius", args.beam_radius, "length"),
+                  beam_radius=quantity("beam-radius", args.beam_radius, "length",
+                                       (1e-5, 1.0, False)),
                   wavelength=medium.laser_wavelength or 800e-9)
     opts = dict(pulse=pulse, medium=medium)
+    notes = []
     with spinner(args, "focusing chart"):
         focal, length = focusing_for_cone(angle, energy, freq, **opts)
         grid = np.geomspace(focal_range[0], focal_range[1], 40)
         chart = focusing_chart(grid, energy, freq, **opts)
+        notes += _laser_notes(pulse, energy, focal)
     labels = [f"{e * 1e3:.3g} mJ" for e in energy]
-    title = (f"cone angle at {band[0] / 1e12:.3g}-{band[1] / 1e12:.3g} THz vs lens focal length "
+    title = (f"cone angle at {band_text} vs lens focal length "
              f"(target {np.degrees(angle):.3g} deg)")
     curves = [np.degrees(chart.cone_angle[:, j]) for j in range(energy.size)]
     target = [np.full(grid.shape, np.degrees(angle))]
-    files = write_all(args.out, args.force, ("png", "html", "csv"),
-                       figures=[("focusing_chart",
-                                 lambda: static.line_chart(grid, curves + target,
-                                                           labels + ["target"], "lens focal length (m)",
-                                                           "cone angle (deg)", title),
-                                 lambda: interactive.line_chart(grid, curves + target,
-                                                                labels + ["target"],
-                                                                "lens focal length (m)",
-                                                                "cone angle (deg)", title))],
-                       tables=[("focusing_chart", csv(["focal_length_m"] + [f"cone_deg_{lab.replace(' ', '')}"
-                                                                             for lab in labels],
-                                                       [grid] + curves))])
+    lens_text = ", ".join(f"{lab}: f = {f:.3g} m" if np.isfinite(f) else f"{lab}: none"
+                          for lab, f in zip(labels, focal))
+    captions = {}
+    files = write_all(
+        args.out, args.force, ("png", "html", "csv"),
+        figures=[("focusing_chart",
+                  lambda: static.line_chart(grid, curves + target, labels + ["target"],
+                                            "lens focal length (m)", "cone angle (deg)", title),
+                  lambda: interactive.line_chart(grid, curves + target, labels + ["target"],
+                                                 "lens focal length (m)", "cone angle (deg)",
+                                                 title),
+                  f"Cone angle at {band_text} versus lens focal length; a "
+                  f"{np.degrees(angle):.3g} deg cone needs a {100 * length:.3g} cm column: "
+                  f"{lens_text}")],
+        tables=[("focusing_chart",
+                 csv(["focal_length_m"] + [f"cone_deg_{lab.replace(' ', '')}" for lab in labels],
+                     [grid] + curves))],
+        captions=captions)
     summary = {"target_angle_deg": float(np.degrees(angle)), "column_length_m": float(length),
-               "energy_j": energy.tolist(),
+               "energy_j": energy.tolist(), "band_hz": np.atleast_1d(freq).tolist(),
                "focal_length_m": [None if not np.isfinite(f) else float(f) for f in focal],
-               "files": files}
+               "files": files, "captions": captions}
     rows = "\n".join(f"  {e * 1e3:5.3g} mJ: lens f = {f:.3f} m" if np.isfinite(f) else
-                      f"  {e * 1e3:5.3g} mJ: no lens in range gives it" for e, f in zip(energy, focal))
-    emit(args, summary, f"a {np.degrees(angle):.3g} deg cone needs a {100 * length:.3g} cm column:\n"
-                         + rows)
+                     f"  {e * 1e3:5.3g} mJ: no lens from {focal_range[0]:g} to "
+                     f"{focal_range[1]:g} m gives it" for e, f in zip(energy, focal))
+    emit(args, summary, f"a {np.degrees(angle):.3g} deg cone at {band_text} needs a "
+                        f"{100 * length:.3g} cm column:\n" + rows, notes)
     return 0
+
+
+def _laser_notes(pulse, energies, focal) -> list:
+    """What the laser model says for each pulse energy at its lens (or why there is none)."""
+    from thzarray.source.laser import critical_power, plasma_from_laser
+
+    notes = []
+    p_cr = critical_power(pulse.wavelength)
+    for e, f in zip(energies, focal):
+        p = pulse.replace(energy=float(e))
+        ratio = p.peak_power / p_cr
+        if ratio <= 1.0:
+            notes.append(f"{e * 1e3:.3g} mJ: P/P_cr = {ratio:.3g} is below the critical power; "
+                         "the beam does not collapse into a filament")
+            continue
+        if not np.isfinite(f):
+            notes.append(f"{e * 1e3:.3g} mJ: P/P_cr = {ratio:.3g}; no lens in the searched "
+                         "range makes the column")
+            continue
+        try:
+            _, _, est = plasma_from_laser(p.replace(focal_length=float(f)))
+        except ValueError as exc:
+            notes.append(f"{e * 1e3:.3g} mJ: {exc}")
+            continue
+        notes += [f"{e * 1e3:.3g} mJ: {n}" for n in est.notes]
+    return notes

@@ -1,52 +1,64 @@
-"""Commands about what a receiver records: the detector-plane map and the range budget.
-"""
+"""Commands about what a receiver records: the detector-plane map and the range budget."""
 
 from __future__ import annotations
 
+import numpy as np
+
 from thzarray.app.commands.common import (
     csv,
+    design_notes,
     emit,
     slug_of,
     spinner,
+    toward,
     write_all,
 )
 
-__all__ = ['cmd_budget', 'cmd_map']
+__all__ = ["cmd_budget", "cmd_map"]
 
 
 def cmd_map(args):
+    import xarray as xr
+
     from thzarray.app import jobs
     from thzarray.app.design import load_design
     from thzarray.app.plots import interactive, static
 
     design = load_design(args.design)
     with spinner(args, "near field"):
-        m = jobs.detector_map(design)
+        m = jobs.detector_map(design, toward(args))
     slug = slug_of(design.name)
     unit = "J" if m.absolute else "J per (A s)^2"
-    titles = [f"exact field at {m.distance:g} m", "far-field prediction"]
+    titles = [f"exact field, plane distance {m.distance:g} m", "far-field prediction"]
     title = f"{design.name}: receiver map"
     mid = len(m.y) // 2
-    import xarray as xr
-
     ds = xr.Dataset({"near": (("y", "x"), m.near, {"units": unit}),
                      "far": (("y", "x"), m.far, {"units": unit})},
                     coords={"x": ("x", m.x, {"units": "m"}), "y": ("y", m.y, {"units": "m"})},
                     attrs={"design": design.name, "plane_distance_m": m.distance})
+    summary = m.summary()
+    near, far = summary["near_field_peak"], summary["far_field_peak"]
+    caption = (f"What the receiver records on the plane at plane distance {m.distance:g} m: "
+               f"exact field peak {near['energy']:.3g} {unit} at x = {1e3 * near['x_m']:.3g} mm, "
+               f"far-field prediction {far['energy']:.3g} {unit} at x = "
+               f"{1e3 * far['x_m']:.3g} mm; delays: {m.phased.how}")
+    captions = {}
     files = write_all(
         args.out, args.force, design.formats,
         figures=[(f"{slug}_map", lambda: static.plane_maps(m.x, m.y, [m.near, m.far], titles,
-                                                            title, f"energy ({unit})"),
+                                                           title, f"energy ({unit})"),
                   lambda: interactive.plane_maps(m.x, m.y, [m.near, m.far], titles, title,
-                                                 f"energy ({unit})"))],
+                                                 f"energy ({unit})"), caption)],
         tables=[(f"{slug}_map_cut", csv(["x_m", "near_energy", "far_energy"],
-                                         [m.x, m.near[mid], m.far[mid]]))],
-        datasets=[(f"{slug}_map", ds)])
-    summary = dict(m.summary(), design=design.name, files=files)
+                                        [m.x, m.near[mid], m.far[mid]]))],
+        datasets=[(f"{slug}_map", ds)], captions=captions)
+    summary = dict(summary, design=design.name, files=files, captions=captions)
     ratio = summary["near_over_far_peak"]
-    emit(args, summary, f"{design.name}: peak {summary['near_field_peak']['energy']:.3g} {unit} "
-                         f"(far-field prediction x{1 / ratio if ratio else float('nan'):.3g}); "
-                         f"wrote {len(files)} files to {args.out}")
+    emit(args, summary, f"{design.name}: peak {near['energy']:.3g} {unit} on the plane at "
+                        f"plane distance {m.distance:g} m (far-field prediction "
+                        f"x{1 / ratio if ratio else float('nan'):.3g}); wrote {len(files)} files "
+                        f"to {args.out}\ndelays: {m.phased.how}",
+         design_notes(design, "map"))
     return 0
 
 
@@ -56,28 +68,50 @@ def cmd_budget(args):
     from thzarray.app.plots import interactive, static
 
     design = load_design(args.design)
-    b = jobs.budget(design)
+    with spinner(args, "range budget"):
+        res = jobs.budget(design, toward(args))
+    b = res.budget
     slug = slug_of(design.name)
     unit = "J" if design.plasma is not None else "J per (A s)^2"
-    labels = [f"RH {100 * h:.0f} %" for h in b.relative_humidity]
+    labels = (["vacuum"] if np.isnan(b.relative_humidity).all()
+              else [f"RH {100 * h:.0f} %" for h in b.relative_humidity])
+    tags = ["vacuum"] if labels == ["vacuum"] else [f"rh{100 * h:.0f}" for h in
+                                                    b.relative_humidity]
     title = f"{design.name}: range budget"
-    cols = [b.distance] + [e for e in b.energy] + [a for a in b.absorption_db]
-    header = (["distance_m"] + [f"energy_rh{100 * h:.0f}" for h in b.relative_humidity]
-              + [f"absorption_db_rh{100 * h:.0f}" for h in b.relative_humidity])
+    cols = ([b.ranges] + list(b.energy) + list(b.far_field_energy) + list(b.absorption_db))
+    header = (["range_m"] + [f"energy_{t}" for t in tags] + [f"far_field_energy_{t}"
+                                                             for t in tags]
+              + [f"absorption_db_{t}" for t in tags])
+    direction = (f"theta {np.degrees(b.theta):.3g} deg, phi {np.degrees(b.phi):.3g} deg "
+                 f"(from {res.direction_from})")
+    last = ", ".join(f"{lab}: {e[-1]:.3g} {unit} ({a[-1]:.3g} dB absorbed)"
+                     for lab, e, a in zip(labels, b.energy, b.absorption_db))
+    caption = (f"Energy into the receiver versus its range from the origin, looking along "
+               f"{direction}; at {b.ranges[-1]:g} m {last}")
+    curves = list(b.energy) + [b.far_field_energy[0]]
+    names = labels + [f"far-field prediction ({labels[0]})"]
+    captions = {}
     files = write_all(
         args.out, args.force, design.formats,
         figures=[(f"{slug}_budget",
-                  lambda: static.line_chart(b.distance, list(b.energy), labels, "distance (m)",
+                  lambda: static.line_chart(b.ranges, curves, names,
+                                            "range from the origin (m)",
                                             f"energy into receiver ({unit})", title, logy=True),
-                  lambda: interactive.line_chart(b.distance, list(b.energy), labels,
-                                                 "distance (m)", f"energy into receiver ({unit})",
-                                                 title, logy=True))],
-        tables=[(f"{slug}_budget", csv(header, cols))])
-    summary = {"design": design.name, "distance_m": b.distance.tolist(),
+                  lambda: interactive.line_chart(b.ranges, curves, names,
+                                                 "range from the origin (m)",
+                                                 f"energy into receiver ({unit})", title,
+                                                 logy=True), caption)],
+        tables=[(f"{slug}_budget", csv(header, cols))], captions=captions)
+    summary = {"design": design.name, "range_m": b.ranges.tolist(),
                "relative_humidity": b.relative_humidity.tolist(), "energy": b.energy.tolist(),
+               "far_field_energy": b.far_field_energy.tolist(),
+               "far_field_error": b.far_field_error.tolist(),
                "absorption_db": b.absorption_db.tolist(), "theta_rad": float(b.theta),
-               "energy_unit": unit, "files": files}
-    last = ", ".join(f"{lab}: {e[-1]:.3g} {unit} ({a[-1]:.3g} dB absorbed)"
-                     for lab, e, a in zip(labels, b.energy, b.absorption_db))
-    emit(args, summary, f"{design.name} at {b.distance[-1]:g} m: {last}")
+               "phi_rad": float(b.phi), "direction_from": res.direction_from,
+               "energy_unit": unit, "files": files, "captions": captions,
+               **res.phased.summary()}
+    text = (f"{design.name}: receiver at ranges {b.ranges[0]:g} to {b.ranges[-1]:g} m from the "
+            f"origin along {direction}; exact finite-distance field; at {b.ranges[-1]:g} m "
+            f"{last}\ndelays: {res.phased.how}")
+    emit(args, summary, text, design_notes(design, "budget") + res.notes())
     return 0

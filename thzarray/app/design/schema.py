@@ -1,9 +1,18 @@
-"""The design-file schema: every section and key, its kind, default, range and meaning.
+"""The design-file schema: every section and key, its kind, default, range, meaning, example.
 
 A key's kind is a dimension of :data:`thzarray.app.units.DIMENSIONS` (a quantity with
 units), or one of ``str``, ``int``, ``bool``, ``choice``, ``vector:<kind>``,
-``list:<kind>``, ``grid:<kind>``. designs/README.md documents every key; a test keeps the
-two in step.
+``list:<kind>``, ``grid:<kind>`` (a list of values or a table ``{start, stop, points}``).
+Ranges are in SI. designs/README.md documents every key; a test keeps the two in step.
+
+Distances are defined once:
+
+- a *range* is the distance from the coordinate origin along a direction ([budget].ranges,
+  [steering].aperture_distance, the ``# range`` of a measured scan);
+- a *plane distance* is the distance of a plane's centre from its own origin along its
+  normal ([plane].distance);
+- filament positions are coordinates in metres in the design's frame (+z: the laser's
+  direction, origin at the lens or the laser's exit).
 """
 
 from __future__ import annotations
@@ -11,23 +20,26 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-__all__ = ["MAX_FILAMENTS", "MAX_GRID_POINTS", "OUTPUT_FORMATS", "SCHEMA", "Spec"]
+__all__ = ["KIND_KEYS", "MAX_FILAMENTS", "MAX_GRID_POINTS", "OUTPUT_FORMATS", "SCHEMA",
+           "SOURCE_SECTIONS", "Spec", "applies"]
 
-# Largest observation grid a design may request (points x frequencies); larger requests
-# are refused before any memory is allocated.
 MAX_GRID_POINTS = 50_000_000
-
-
+"""Largest observation grid a design may request (points x frequencies)."""
 MAX_FILAMENTS = 4096
 """Most filaments one design may hold."""
 OUTPUT_FORMATS = ("png", "pdf", "html", "csv", "netcdf")
+SOURCE_SECTIONS = ("filament", "filaments", "layout")
+"""Sections that place the columns (a design has exactly one; [laser] may make them)."""
+
+_POSITION = 1e4   # m: largest coordinate of a column or a plane (10 km)
+_FREQ = (1e9, 1e14)  # Hz: 1 GHz to 100 THz
 
 
 @dataclass(frozen=True)
 class Spec:
-    """One key of the schema."""
+    """One key of the schema: kind, default, SI range, meaning and an example value."""
 
-    kind: str                 # a units.DIMENSIONS kind, or str/int/bool/choice/vector/...
+    kind: str
     default: object = None
     required: bool = False
     low: float | None = None
@@ -35,128 +47,267 @@ class Spec:
     low_open: bool = False
     choices: tuple = ()
     doc: str = ""
+    example: str = ""
 
 
-_Q = Spec  # short alias for the table below
+_Q = Spec
 
 SCHEMA: dict[str, dict[str, Spec]] = {
     "design": {
-        "name": _Q("str", required=True, doc="short name used in titles and file names"),
-        "description": _Q("str", "", doc="free text"),
+        "name": _Q("str", required=True, doc="short name used in titles and file names",
+                   example='"4x4 grid steered"'),
+        "description": _Q("str", "", doc="free text shown in the gallery",
+                          example='"invented scenario"'),
     },
     "medium": {
         "kind": _Q("choice", "air", choices=("air", "vacuum", "custom"),
-                   doc="air (Ciddor + ITU-R P.453), vacuum, or custom indices"),
-        "temperature": _Q("temperature", 15.0, low=-40, high=100, doc="air temperature"),
-        "pressure": _Q("pressure", 101325.0, low=1e4, high=1.2e5, doc="total pressure"),
-        "relative_humidity": _Q("fraction", 0.0, low=0.0, high=1.0, doc="0 to 100 %"),
-        "co2": _Q("fraction", 450e-6, low=0.0, high=2e-3, doc="CO2 fraction, e.g. '450 ppm'"),
-        "laser_wavelength": _Q("length", 800e-9, low=0.3e-6, high=1.7e-6,
-                               doc="vacuum wavelength of the driving laser"),
-        "n_group": _Q("number", None, low=1.0, high=2.0, doc="custom: optical group index"),
-        "n_thz": _Q("number", None, low=1.0, high=4.0, doc="custom: THz phase index"),
+                   doc="air (Ciddor + ITU-R P.453 + P.676), vacuum, or custom indices",
+                   example='"air"'),
+        "temperature": _Q("temperature", 15.0, low=-40, high=60, doc="air temperature",
+                          example='"20 degC"'),
+        "pressure": _Q("pressure", 101325.0, low=1e4, high=1.2e5, doc="total pressure",
+                       example='"1013.25 hPa"'),
+        "relative_humidity": _Q("fraction", 0.0, low=0.0, high=1.0,
+                                doc="relative humidity, 0 to 100 %", example='"40 %"'),
+        "co2": _Q("fraction", 450e-6, low=0.0, high=2e-3, doc="CO2 mole fraction",
+                  example='"450 ppm"'),
+        "laser_wavelength": _Q("length", None, low=0.3e-6, high=1.7e-6,
+                               doc="vacuum wavelength of the driving laser (sets the group "
+                                   "index); 800 nm, or [laser].wavelength",
+                               example='"800 nm"'),
+        "n_group": _Q("number", None, low=1.0, high=2.0,
+                      doc="custom: optical group index of the driver", example="1.00028"),
+        "n_thz": _Q("number", None, low=1.0, high=4.0, doc="custom: THz phase index",
+                    example="1.00027"),
+    },
+    "laser": {
+        "energy": _Q("energy", required=True, low=0.0, low_open=True, high=10.0,
+                     doc="pulse energy (per beam)", example='"2 mJ"'),
+        "duration": _Q("time", 50e-15, low=1e-15, high=1e-11,
+                       doc="intensity FWHM of the pulse", example='"50 fs"'),
+        "beam_radius": _Q("length", 5e-3, low=1e-5, high=1.0,
+                          doc="1/e^2 intensity radius of the collimated beam at the lens",
+                          example='"5 mm"'),
+        "wavelength": _Q("length", 800e-9, low=0.3e-6, high=1.7e-6,
+                         doc="vacuum wavelength", example='"800 nm"'),
+        "focal_length": _Q("length", None, low=0.0, low_open=True, high=1e4,
+                           doc="lens focal length; omit for a collimated beam",
+                           example='"1 m"'),
+        "n2": _Q("n2", 3.2e-23, low=0.0, low_open=True, high=1e-15,
+                 doc="Kerr index of air", example='"3.2e-19 cm^2/W"'),
+        "clamped_intensity": _Q("intensity", 5e17, low=1e12, high=1e21,
+                                doc="intensity inside the filament",
+                                example='"5e13 W/cm^2"'),
+        "core_radius": _Q("length", 50e-6, low=1e-7, high=1e-2, doc="plasma core radius",
+                          example='"50 um"'),
+        "collision_rate": _Q("rate", 2e12, low=0.0, high=1e15,
+                             doc="electron collision rate", example='"2e12 1/s"'),
     },
     "plasma": {
-        "electron_density": _Q("density", required=True, low=1e18, high=1e26),
-        "collision_rate": _Q("rate", required=True, low=0.0, high=1e15),
-        "pulse_duration": _Q("time", 50e-15, low=1e-15, high=1e-11, doc="intensity FWHM"),
-        "peak_intensity": _Q("intensity", 5e17, low=1e12, high=1e21),
-        "radius": _Q("length", 50e-6, low=1e-7, high=1e-2, doc="plasma core radius"),
+        "electron_density": _Q("density", required=True, low=1e18, high=1e26,
+                               doc="free-electron density", example='"1e16 cm^-3"'),
+        "collision_rate": _Q("rate", required=True, low=0.0, high=1e15,
+                             doc="electron collision rate", example='"2e12 1/s"'),
+        "pulse_duration": _Q("time", 50e-15, low=1e-15, high=1e-11,
+                             doc="intensity FWHM of the driving pulse", example='"50 fs"'),
+        "peak_intensity": _Q("intensity", 5e17, low=1e12, high=1e21,
+                             doc="peak (clamped) intensity in the core",
+                             example='"5e13 W/cm^2"'),
+        "radius": _Q("length", 50e-6, low=1e-7, high=1e-2, doc="plasma core radius",
+                     example='"50 um"'),
     },
     "filament": {
-        "length": _Q("length", required=True, low=0.0, high=1e3, low_open=True),
-        "start": _Q("vector:length", (0.0, 0.0, 0.0), doc="[x, y, z]"),
-        "axis": _Q("vector:number", (0.0, 0.0, 1.0), doc="[x, y, z], normalised"),
-        "delay": _Q("time", 0.0, low=-1e-6, high=1e-6),
-        "amplitude": _Q("number", 1.0, low=-1e6, high=1e6, doc="factor on the current"),
-        "profile_z": _Q("list:length", None, doc="sample positions from the start"),
-        "profile_w": _Q("list:number", None, doc="longitudinal profile values at profile_z"),
+        "length": _Q("length", required=True, low=0.0, high=1e3, low_open=True,
+                     doc="column length", example='"30 cm"'),
+        "start": _Q("vector:length", (0.0, 0.0, 0.0), low=-_POSITION, high=_POSITION,
+                    doc="where the column starts [x, y, z]", example='["0 m", "0 m", "1 m"]'),
+        "axis": _Q("vector:number", (0.0, 0.0, 1.0), low=-1e6, high=1e6,
+                   doc="direction of the pulse [x, y, z], normalised", example="[0, 0, 1]"),
+        "delay": _Q("time", 0.0, low=-1e-6, high=1e-6,
+                    doc="time the pulse passes the start", example='"1.5 ps"'),
+        "amplitude": _Q("number", 1.0, low=-1e6, high=1e6, doc="factor on the current",
+                        example="1.0"),
+        "profile_z": _Q("list:length", None, low=0.0, high=1e3,
+                        doc="profile sample positions from the start, 0 to length",
+                        example='["0 cm", "15 cm", "30 cm"]'),
+        "profile_w": _Q("list:number", None, low=-1e6, high=1e6,
+                        doc="longitudinal profile values at profile_z",
+                        example="[0.2, 1.0, 0.2]"),
     },
     "layout": {
         "kind": _Q("choice", required=True,
                    choices=("line", "grid", "hexagonal", "ring", "random", "csv"),
-                   doc="array builder"),
-        "length": _Q("length", None, low=0.0, low_open=True, high=1e3, doc="column length"),
-        "count": _Q("int", None, low=1, high=4096, doc="line, ring, random: columns"),
-        "shape": _Q("list:int", None, doc="grid: [nx, ny]"),
-        "rings": _Q("int", None, low=0, high=30, doc="hexagonal: rings around the centre"),
-        "spacing": _Q("length", None, low=0.0, low_open=True, high=10.0, doc="pitch"),
-        "radius": _Q("length", None, low=0.0, low_open=True, high=10.0, doc="ring, random"),
-        "min_separation": _Q("length", 0.0, low=0.0, high=10.0, doc="random"),
-        "seed": _Q("int", 0, low=0, high=2**32 - 1, doc="random: generator seed"),
-        "center_column": _Q("bool", False, doc="ring: add a column at the centre"),
-        "center": _Q("vector:length", (0.0, 0.0, 0.0)),
-        "axis": _Q("vector:number", (0.0, 0.0, 1.0)),
-        "csv": _Q("str", None, doc="csv: layout table (path relative to the design)"),
+                   doc="array builder", example='"grid"'),
+        "length": _Q("length", None, low=0.0, low_open=True, high=1e3,
+                     doc="column length (from [laser] when that section is given)",
+                     example='"30 mm"'),
+        "count": _Q("int", None, low=1, high=MAX_FILAMENTS,
+                    doc="line, ring, random: number of columns", example="8"),
+        "shape": _Q("list:int", None, low=1, high=MAX_FILAMENTS, doc="grid: [nx, ny]",
+                    example="[4, 4]"),
+        "rings": _Q("int", None, low=0, high=36, doc="hexagonal: rings around the centre",
+                    example="2"),
+        "spacing": _Q("length", None, low=0.0, low_open=True, high=10.0,
+                      doc="line, grid, hexagonal: pitch", example='"1.5 mm"'),
+        "radius": _Q("length", None, low=0.0, low_open=True, high=10.0,
+                     doc="ring, random: radius", example='"5 mm"'),
+        "min_separation": _Q("length", 0.0, low=0.0, high=10.0,
+                             doc="random: smallest distance between columns",
+                             example='"1 mm"'),
+        "seed": _Q("int", 0, low=0, high=2**32 - 1, doc="random: generator seed",
+                   example="7"),
+        "center_column": _Q("bool", False, doc="ring: add a column at the centre",
+                            example="true"),
+        "center": _Q("vector:length", (0.0, 0.0, 0.0), low=-_POSITION, high=_POSITION,
+                      doc="centre of the starts [x, y, z] (z is added to the laser's onset)",
+                      example='["0 m", "0 m", "0 m"]'),
+        "axis": _Q("vector:number", (0.0, 0.0, 1.0), low=-1e6, high=1e6,
+                   doc="common beam axis [x, y, z]", example="[0, 0, 1]"),
+        "csv": _Q("str", None, doc="csv: layout table, path relative to the design file",
+                  example='"positions.csv"'),
     },
     "steering": {
-        "toward": _Q("list:angle", None, doc="[theta, phi] target direction"),
+        "toward": _Q("list:angle", None, low=-10 * math.pi, high=10 * math.pi,
+                     doc="target direction [theta, phi] (polar angle from +z, azimuth)",
+                     example='["10 deg", "0 deg"]'),
         "method": _Q("choice", "true-time", choices=("true-time", "phase-only", "optimise"),
-                     doc="true-time delays, delays folded into one period, or optimised"),
-        "design_freq": _Q("frequency", None, low=0.0, low_open=True, high=1e14,
-                          doc="phase-only: design frequency"),
+                     doc="true-time delays, delays folded into one period, or optimised",
+                     example='"true-time"'),
+        "design_freq": _Q("frequency", None, low=_FREQ[0], high=_FREQ[1],
+                          doc="phase-only: frequency at which the folded delays are exact",
+                          example='"0.3 THz"'),
         "max_delay": _Q("time", None, low=0.0, low_open=True, high=1e-6,
-                        doc="optimise: largest realisable delay"),
+                        doc="optimise: largest delay the bench can set", example='"1 ps"'),
         "aperture_radius": _Q("length", None, low=0.0, low_open=True, high=1e3,
-                              doc="target aperture radius (with aperture_distance)"),
+                              doc="radius of the target aperture (with aperture_distance)",
+                              example='"5 mm"'),
         "aperture_distance": _Q("length", None, low=0.0, low_open=True, high=1e6,
-                                doc="distance of the target aperture from the origin"),
-        "band": _Q("list:frequency", None, doc="[low, high] band for gains and optimisation"),
-        "band_points": _Q("int", 9, low=2, high=1024),
+                                doc="range of the target aperture's centre from the origin",
+                                example='"0.5 m"'),
+        "band": _Q("list:frequency", None, low=_FREQ[0], high=_FREQ[1],
+                   doc="[low, high] band of gains, steering and tolerances (or one frequency)",
+                   example='["0.1 THz", "0.5 THz"]'),
+        "band_points": _Q("int", 9, low=2, high=1024, doc="frequencies sampling the band",
+                          example="9"),
+        "delays": _Q("list:time", None, low=-1e-6, high=1e-6,
+                     doc="stored delays, one per column (written by `steer --write`)",
+                     example='["0 ps", "0.87 ps"]'),
     },
     "tolerance": {
-        "timing_jitter": _Q("time", 0.0, low=0.0, high=1e-9, doc="rms timing error"),
-        "transverse_error": _Q("length", 0.0, low=0.0, high=1.0, doc="rms placement error"),
-        "longitudinal_error": _Q("length", 0.0, low=0.0, high=10.0, doc="rms onset error"),
-        "trials": _Q("int", 1000, low=2, high=10**6, doc="Monte Carlo builds"),
-        "percentile": _Q("number", 10.0, low=0.0, high=100.0),
-        "seed": _Q("int", 0, low=0, high=2**32 - 1),
+        "timing_jitter": _Q("time", 0.0, low=0.0, high=1e-9, doc="rms timing error",
+                            example='"0.2 ps"'),
+        "transverse_error": _Q("length", 0.0, low=0.0, high=1.0,
+                               doc="rms placement error across the axis", example='"50 um"'),
+        "longitudinal_error": _Q("length", 0.0, low=0.0, high=10.0,
+                                 doc="rms onset error along the axis", example='"1 mm"'),
+        "trials": _Q("int", 1000, low=2, high=10**6, doc="simulated builds (Monte Carlo)",
+                     example="2000"),
+        "percentile": _Q("number", 10.0, low=0.0, high=100.0,
+                         doc="percentile of the delivered gain to report", example="10"),
+        "seed": _Q("int", 0, low=0, high=2**32 - 1, doc="generator seed", example="2"),
     },
     "observe": {
-        "freq": _Q("grid:frequency", required=True, low=0.0, low_open=True, high=1e14,
-                   doc="a list, or {start, stop, points}"),
+        "freq": _Q("grid:frequency", required=True, low=_FREQ[0], high=_FREQ[1],
+                   doc="frequencies of the pattern: a list, or {start, stop, points}",
+                   example='["0.1 THz", "0.3 THz"]'),
         "theta": _Q("grid:angle", {"start": 0.0, "stop": 0.2, "points": 201}, low=0.0,
-                    high=math.pi, doc="polar angles"),
+                    high=math.pi, doc="polar angles from +z",
+                    example='{ start = "0 deg", stop = "25 deg", points = 201 }'),
         "phi": _Q("grid:angle", {"start": 0.0, "stop": 2 * math.pi, "points": 73},
-                  low=-10 * math.pi, high=10 * math.pi, doc="azimuths"),
+                  low=-10 * math.pi, high=10 * math.pi, doc="azimuths from +x",
+                  example='{ start = "0 deg", stop = "360 deg", points = 73 }'),
     },
     "cone": {
         "target_angle": _Q("angle", None, low=0.0, high=math.pi / 2, low_open=True,
-                           doc="wanted cone angle for the design chart"),
-        "band": _Q("list:frequency", None, doc="[low, high] detection band"),
+                           doc="wanted cone angle, marked on the design chart",
+                           example='"3 deg"'),
+        "band": _Q("list:frequency", None, low=_FREQ[0], high=_FREQ[1],
+                   doc="[low, high] detection band of the chart (or one frequency)",
+                   example='["0.1 THz", "0.5 THz"]'),
         "lengths": _Q("grid:length", {"start": 0.01, "stop": 2.0, "points": 200},
-                      low=0.0, low_open=True, high=1e3, doc="plasma lengths of the chart"),
+                      low=0.0, low_open=True, high=1e3, doc="plasma lengths of the chart",
+                      example='{ start = "5 mm", stop = "30 cm", points = 200 }'),
     },
     "receiver": {
         "kind": _Q("choice", "narrowband", choices=("narrowband", "broadband"),
-                   doc="narrowband (one linear polarization) or broadband power detector"),
-        "center_freq": _Q("frequency", None, low=0.0, low_open=True, high=1e14),
-        "bandwidth": _Q("frequency", None, low=0.0, low_open=True, high=1e14),
-        "polarization": _Q("vector:number", (1.0, 0.0, 0.0), doc="narrowband: [x, y, z]"),
-        "area": _Q("area", None, low=0.0, low_open=True, high=1.0, doc="effective area"),
+                   doc="narrowband (one linear polarization) or broadband power detector",
+                   example='"narrowband"'),
+        "center_freq": _Q("frequency", None, low=_FREQ[0], high=_FREQ[1],
+                          doc="centre of the pass band", example='"0.1 THz"'),
+        "bandwidth": _Q("frequency", None, low=0.0, low_open=True, high=_FREQ[1],
+                        doc="full width of the pass band", example='"10 GHz"'),
+        "polarization": _Q("vector:number", (1.0, 0.0, 0.0), low=-1e6, high=1e6,
+                           doc="narrowband: polarization direction [x, y, z]",
+                           example="[1, 0, 0]"),
+        "area": _Q("area", None, low=0.0, low_open=True, high=1.0,
+                   doc="effective area (or beam_waist)", example='"1 mm^2"'),
         "beam_waist": _Q("length", None, low=0.0, low_open=True, high=1.0,
-                         doc="Gaussian acceptance beam waist (1/e^2 intensity radius)"),
-        "response_csv": _Q("str", None, doc="broadband: CSV of the spectral response"),
-        "band_points": _Q("int", 11, low=2, high=4096, doc="frequencies sampling the band"),
+                         doc="narrowband: Gaussian acceptance beam waist (1/e^2 radius)",
+                         example='"5 mm"'),
+        "response_csv": _Q("str", None,
+                           doc="broadband: CSV of the spectral response (freq_hz,response)",
+                           example='"response.csv"'),
+        "band_points": _Q("int", 11, low=2, high=4096, doc="frequencies sampling the band",
+                          example="11"),
     },
     "plane": {
-        "distance": _Q("length", required=True, low=0.0, low_open=True, high=1e5,
-                       doc="distance of the plane's centre from origin along normal"),
-        "normal": _Q("vector:number", (0.0, 0.0, 1.0)),
-        "origin": _Q("vector:length", (0.0, 0.0, 0.0)),
-        "x": _Q("grid:length", {"start": -0.1, "stop": 0.1, "points": 81}, low=-1e4, high=1e4),
-        "y": _Q("grid:length", {"start": -0.1, "stop": 0.1, "points": 81}, low=-1e4, high=1e4),
+        "distance": _Q("length", required=True, low=0.0, low_open=True, high=_POSITION,
+                       doc="plane distance: from origin to the plane's centre along normal",
+                       example='"1.5 m"'),
+        "normal": _Q("vector:number", (0.0, 0.0, 1.0), low=-1e6, high=1e6,
+                     doc="plane normal [x, y, z]", example="[0, 0, 1]"),
+        "origin": _Q("vector:length", (0.0, 0.0, 0.0), low=-_POSITION, high=_POSITION,
+                     doc="point the plane distance is measured from",
+                     example='["0 m", "0 m", "0 m"]'),
+        "x": _Q("grid:length", {"start": -0.1, "stop": 0.1, "points": 81}, low=-_POSITION,
+                high=_POSITION, doc="in-plane coordinates along the plane's x axis",
+                example='{ start = "-12 cm", stop = "12 cm", points = 61 }'),
+        "y": _Q("grid:length", {"start": -0.1, "stop": 0.1, "points": 81}, low=-_POSITION,
+                high=_POSITION, doc="in-plane coordinates along the plane's y axis",
+                example='{ start = "-12 cm", stop = "12 cm", points = 61 }'),
     },
     "budget": {
-        "distances": _Q("grid:length", {"start": 1.0, "stop": 50.0, "points": 50},
-                        low=0.0, low_open=True, high=1e6),
-        "relative_humidity": _Q("list:fraction", (0.0, 0.5, 1.0), low=0.0, high=1.0),
+        "ranges": _Q("grid:length", {"start": 1.0, "stop": 50.0, "points": 50},
+                     low=0.0, low_open=True, high=1e6,
+                     doc="ranges of the receiver from the origin",
+                     example='{ start = "1 m", stop = "50 m", points = 50 }'),
+        "relative_humidity": _Q("list:fraction", (0.0, 0.5, 1.0), low=0.0, high=1.0,
+                                doc="humidities to compare (air only)",
+                                example='["0 %", "50 %", "100 %"]'),
         "theta": _Q("angle", None, low=0.0, high=math.pi,
-                    doc="receiver direction; default the cone angle at the band centre"),
-        "phi": _Q("angle", 0.0, low=-10 * math.pi, high=10 * math.pi),
+                    doc="receiver direction; default the steering target, else the cone",
+                    example='"2.7 deg"'),
+        "phi": _Q("angle", 0.0, low=-10 * math.pi, high=10 * math.pi,
+                  doc="receiver azimuth (with theta)", example='"0 deg"'),
     },
     "outputs": {
         "formats": _Q("list:str", ("png", "html", "csv"),
-                      doc="any of png, pdf, html, csv, netcdf"),
+                      doc="any of png, pdf, html, csv, netcdf", example='["png", "html"]'),
     },
 }
+
+KIND_KEYS = {
+    "medium": ("kind", {"air": {"temperature", "pressure", "relative_humidity", "co2",
+                                "laser_wavelength"},
+                        "vacuum": set(), "custom": {"n_group", "n_thz"}}),
+    "layout": ("kind", {"line": {"count", "spacing", "length"},
+                        "grid": {"shape", "spacing", "length"},
+                        "hexagonal": {"rings", "spacing", "length"},
+                        "ring": {"count", "radius", "length", "center_column"},
+                        "random": {"count", "radius", "length", "min_separation", "seed"},
+                        "csv": {"csv", "length"}}),
+    "receiver": ("kind", {"narrowband": {"polarization", "area", "beam_waist"},
+                          "broadband": {"area", "response_csv"}}),
+    "steering": ("method", {"true-time": set(), "phase-only": {"design_freq"},
+                            "optimise": {"max_delay"}}),
+}
+"""Keys that only some kinds use: section -> (the key that picks the kind, kind -> keys)."""
+
+
+def applies(section: str, key: str, kind) -> bool:
+    """Whether ``key`` of ``section`` is used by the section's ``kind`` (or method)."""
+    if section not in KIND_KEYS:
+        return True
+    selector, table = KIND_KEYS[section]
+    specific = set().union(*table.values())
+    return key not in specific or key in table.get(kind, set())

@@ -7,7 +7,8 @@ from matplotlib.figure import Figure
 
 from thzarray.app.output import atomic_path
 
-__all__ = ["cone_chart", "save", "sky_map", "cone_cuts", "line_chart"]
+__all__ = ["bar_chart", "cone_chart", "cone_cuts", "delay_chart", "fit_plot", "histogram",
+           "line_chart", "plane_maps", "save", "sky_map"]
 
 _CMAP = "viridis"
 
@@ -56,7 +57,13 @@ def cone_chart(lengths, freqs, angles, title, target_angle=None, target_lengths=
     return fig
 
 
-def sky_map(x_deg, y_deg, intensity, title, pol=None, label="energy density (J/(Hz sr))"):
+def _sci(value, _pos=None):
+    """Colour-bar tick labels with their own exponent (no offset text above the bar)."""
+    return f"{value:.2g}"
+
+
+def sky_map(x_deg, y_deg, intensity, title, pol=None, label="energy density (J/(Hz sr))",
+            target=None):
     """Intensity in a polar projection: theta radial, phi around (x = theta cos phi, ...).
 
     Parameters
@@ -67,11 +74,13 @@ def sky_map(x_deg, y_deg, intensity, title, pol=None, label="energy density (J/(
         Values to show (rows along y).
     pol : (ndarray, ndarray), optional
         Polarization direction components (px, py), shape (M, N), drawn as short lines.
+    target : (float, float), optional
+        Projected position (deg) of a target, marked with a cross.
     """
     fig = Figure(figsize=(5.6, 4.8), layout="constrained")
     ax = fig.add_subplot()
     mesh = ax.pcolormesh(x_deg, y_deg, intensity, cmap=_CMAP, shading="auto")
-    fig.colorbar(mesh, ax=ax, label=label)
+    fig.colorbar(mesh, ax=ax, label=label, format=_sci)
     if pol is not None:
         step = max(1, len(x_deg) // 16)
         xx, yy = np.meshgrid(x_deg[::step], y_deg[::step])
@@ -84,10 +93,15 @@ def sky_map(x_deg, y_deg, intensity, title, pol=None, label="energy density (J/(
     for r in _nice_rings(rmax):
         t = np.linspace(0, 2 * np.pi, 200)
         ax.plot(r * np.cos(t), r * np.sin(t), color="white", lw=0.5, alpha=0.5)
+    if target is not None:
+        ax.plot(*target, marker="x", ms=10, mew=2, color="white")
+        ax.plot(*target, marker="x", ms=12, mew=0.8, color="black")
+        ax.annotate("target", target, textcoords="offset points", xytext=(6, 6),
+                    color="white", fontsize=8)
     ax.set_aspect("equal")
     ax.set_xlabel("theta cos(phi) (deg)")
     ax.set_ylabel("theta sin(phi) (deg)")
-    ax.set_title(title)
+    ax.set_title(title, fontsize=10)
     return fig
 
 
@@ -108,17 +122,19 @@ def cone_cuts(theta, freqs, values, title, label="energy density (J/(Hz sr))"):
     return fig
 
 
-def line_chart(x, ys, labels, xlabel, ylabel, title, logy=False):
-    """Generic chart of several curves sharing one x axis."""
+def line_chart(x, ys, labels, xlabel, ylabel, title, logy=False, bands=None):
+    """Curves sharing one x axis; ``bands`` (lower, upper) pairs shade a spread per curve."""
     fig = Figure(figsize=(6.4, 4.0), layout="constrained")
     ax = fig.add_subplot()
-    for y, lab, col in zip(ys, labels, _colours(len(ys))):
-        ax.plot(x, y, color=col, label=lab)
+    for k, (y, lab, col) in enumerate(zip(ys, labels, _colours(len(ys)))):
+        if bands is not None and bands[k] is not None:
+            ax.fill_between(x, bands[k][0], bands[k][1], color=col, alpha=0.25, lw=0)
+        ax.plot(x, y, color=col, label=lab, marker="o" if len(x) < 30 else None, ms=3)
     if logy:
         ax.set_yscale("log")
     ax.set_xlabel(xlabel)
     ax.set_ylabel(ylabel)
-    ax.set_title(title)
+    ax.set_title(title, fontsize=10)
     ax.grid(True, alpha=0.3)
     if any(labels):
         ax.legend(fontsize=8)
@@ -154,7 +170,7 @@ def plane_maps(x, y, maps, titles, title, label, unit_scale=1e3, unit="mm"):
         ax.set_xlabel(f"x ({unit})")
         if n == 0:
             ax.set_ylabel(f"y ({unit})")
-    fig.colorbar(mesh, ax=list(axes), label=label)
+    fig.colorbar(mesh, ax=list(axes), label=label, format=_sci)
     fig.suptitle(title)
     return fig
 
@@ -191,8 +207,9 @@ def histogram(samples, xlabel, title, markers=()):
     return fig
 
 
-def fit_plot(angle, signal, model, sigma, title, xlabel="angle (deg)"):
-    """Measured scan with the fitted model above, residuals below (angle in rad)."""
+def fit_plot(angle, signal, model, sigma, title, xlabel="angle (deg)", curve=None):
+    """Measured scan (error bars) with the fitted model as a smooth curve above, residuals
+    below (angle in rad; ``curve`` = (angles (rad), model values) on a fine grid)."""
     fig = Figure(figsize=(6.4, 5.0), layout="constrained")
     top, bottom = fig.subplots(2, 1, sharex=True, height_ratios=[3, 1])
     deg = np.degrees(angle)
@@ -200,14 +217,45 @@ def fit_plot(angle, signal, model, sigma, title, xlabel="angle (deg)"):
         top.errorbar(deg, signal, yerr=sigma, fmt="o", ms=3, color="0.3", label="measured")
     else:
         top.plot(deg, signal, "o", ms=3, color="0.3", label="measured")
-    top.plot(deg, model, color=_colours(2)[1], label="fitted model")
+    cx, cy = (deg, model) if curve is None else (np.degrees(curve[0]), curve[1])
+    top.plot(cx, cy, color=_colours(2)[1], label="fitted model")
     top.set_ylabel("signal")
     top.set_title(title)
     top.legend(fontsize=8)
     top.grid(True, alpha=0.3)
     bottom.axhline(0, color="0.5", lw=0.8)
-    bottom.plot(deg, np.asarray(signal) - np.asarray(model), "o", ms=3, color=_colours(1)[0])
+    resid = np.asarray(signal) - np.asarray(model)
+    if sigma is not None:
+        bottom.errorbar(deg, resid, yerr=sigma, fmt="o", ms=3, color=_colours(1)[0])
+    else:
+        bottom.plot(deg, resid, "o", ms=3, color=_colours(1)[0])
     bottom.set_xlabel(xlabel)
     bottom.set_ylabel("residual")
     bottom.grid(True, alpha=0.3)
+    return fig
+
+
+def delay_chart(theta, true_time, phase_only, lobe_tt, lobe_po, title):
+    """Delays of each column (left) and the main lobe (right) versus the steering angle."""
+    fig = Figure(figsize=(9.0, 3.8), layout="constrained")
+    left, right = fig.subplots(1, 2)
+    deg = np.degrees(theta)
+    c_tt, c_po = _colours(2)
+    for n in range(true_time.shape[0]):
+        left.plot(deg, true_time[n] * 1e12, color=c_tt, lw=0.8,
+                  label="true-time" if n == 0 else None)
+        left.plot(deg, phase_only[n] * 1e12, color=c_po, lw=0.8, ls="--",
+                  label="phase-only" if n == 0 else None)
+    left.set_xlabel("target theta (deg)")
+    left.set_ylabel("delay (ps)")
+    left.grid(True, alpha=0.3)
+    left.legend(fontsize=8)
+    right.plot(deg, np.degrees(lobe_tt), "o-", ms=3, color=c_tt, label="true-time")
+    right.plot(deg, np.degrees(lobe_po), "s--", ms=3, color=c_po, label="phase-only")
+    right.plot(deg, deg, ":", color="0.5", label="lobe on target")
+    right.set_xlabel("target theta (deg)")
+    right.set_ylabel("main lobe theta (deg)")
+    right.grid(True, alpha=0.3)
+    right.legend(fontsize=8)
+    fig.suptitle(title, fontsize=10)
     return fig

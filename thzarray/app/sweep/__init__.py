@@ -4,9 +4,11 @@
 - ``measures``  the registry of quantities a sweep computes (:func:`register_measure`).
 - ``store``     one part file per finished task, gathered into a labelled Dataset.
 - ``run``       serial or dask.distributed runs, resumable (:func:`run_sweep`).
+- ``plots``     one figure per measured variable, drawn from the netCDF file.
 """
 
 from thzarray.app.sweep.measures import MEASURES, Measure, measure_cut, register_measure
+from thzarray.app.sweep.plots import sweep_figures
 from thzarray.app.sweep.run import SweepResult, run_serial, run_sweep
 from thzarray.app.sweep.spec import (
            MAX_TASKS,
@@ -20,4 +22,4 @@ from thzarray.app.sweep.store import gather, output_paths
 
 __all__ = ["MAX_TASKS", "MEASURES", "Axis", "Measure", "Sweep", "SweepResult", "Task", "gather",
            "load_sweep", "measure_cut", "output_paths", "parse_sweep", "register_measure", "run_serial",
-           "run_sweep"]
+           "run_sweep", "sweep_figures"]

@@ -90,6 +90,13 @@ def register_measure(name: str, *, seeded: bool = False, options=None, doc: str 
     return add
 
 
+def _phased(design):
+    """The design's columns with the delays every command uses (its [steering])."""
+    from thzarray.app.jobs import phasing
+
+    return phasing(design).filaments
+
+
 def _energy_unit(design):
     return "J/(Hz sr)" if design.plasma is not None else "J/(Hz sr) per (A s)^2"
 
@@ -127,7 +134,8 @@ def _cut_dataset(design, sources, prefix):
 
 @register_measure("cut")
 def measure_cut(design: Design, seed):
-    """Azimuth-averaged energy density (freq, theta) and the polar angle of its maximum.
+    """Azimuth-averaged energy density (freq, theta) and the polar angle of its maximum,
+    with the design's columns phased as its [steering] says.
 
     .. math:: \\bar u(f, \\theta) = \\langle 2 n_T \\varepsilon_0 c |\\mathbf F|^2
               \\rangle_\\phi ,\\qquad \\theta_c(f) = \\arg\\max_\\theta \\bar u
@@ -135,7 +143,7 @@ def measure_cut(design: Design, seed):
     on the design's observation grid (Jackson secs. 9.1-9.2 through
     :func:`~thzarray.farfield.far_field`).
     """
-    return _cut_dataset(design, design.filaments, "")
+    return _cut_dataset(design, _phased(design), "")
 
 
 @register_measure("energy_density")
@@ -144,7 +152,7 @@ def measure_energy_density(design: Design, seed):
     import xarray as xr
 
     return xr.Dataset(
-        {"energy_density": (("freq", "theta", "phi"), _energy_density(design, design.filaments),
+        {"energy_density": (("freq", "theta", "phi"), _energy_density(design, _phased(design)),
                             {"units": _energy_unit(design),
                              "long_name": "spectral-angular energy density"})},
         coords=_coords(design, ("freq", "theta", "phi")))
@@ -156,7 +164,7 @@ def measure_spectral_energy(design: Design, seed):
     import xarray as xr
 
     unit = "J/Hz" if design.plasma is not None else "J/Hz per (A s)^2"
-    dw = spectral_energy(design.filaments, design.grid.freq, design.medium, design.plasma)
+    dw = spectral_energy(_phased(design), design.grid.freq, design.medium, design.plasma)
     return xr.Dataset({"spectral_energy": (("freq",), dw, {"units": unit,
                                                           "long_name": "dW/df over the sphere"})},
                       coords=_coords(design, ("freq",)))
@@ -192,8 +200,9 @@ def measure_jittered_cut(design: Design, seed, timing_jitter):
     (common practice, no source).
     """
     rng = np.random.default_rng(seed)
-    shifts = timing_jitter * rng.standard_normal(len(design.filaments))
-    sources = tuple(replace(s, delay=s.delay + float(d)) for s, d in zip(design.filaments, shifts))
+    phased = _phased(design)
+    shifts = timing_jitter * rng.standard_normal(len(phased))
+    sources = tuple(replace(s, delay=s.delay + float(d)) for s, d in zip(phased, shifts))
     return _cut_dataset(design, sources, "jittered_")
 
 
@@ -209,8 +218,8 @@ def measure_tolerance(design: Design, seed):
     if design.tolerance is None:
         raise ValueError(f"design {design.name!r}: the tolerance measure needs a [tolerance] "
                          "section; allowed: add it")
-    design = replace(design, tolerance=dict(design.tolerance, seed=int(seed)))
-    t, _ = tolerance_study(design)
+    design = design.replace_sections(tolerance=replace(design.tolerance, seed=int(seed)))
+    t, _, _ = tolerance_study(design)
     return xr.Dataset({
         "gain_mean": ((), t.mean, {"units": "1", "long_name": "mean delivered gain"}),
         "gain_std": ((), t.std, {"units": "1"}),

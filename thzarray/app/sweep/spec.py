@@ -8,7 +8,6 @@ point, measure and seed is one :class:`Task`, named by a hash of everything that
 
 from __future__ import annotations
 
-import copy
 import hashlib
 import json
 import math
@@ -27,11 +26,13 @@ from thzarray.app.design import (
     Design,
     DesignError,
     Spec,
+    design_data,
     load_design,
     parse_design,
     read_toml,
     suggest,
 )
+from thzarray.app.design.checker import grid_values
 from thzarray.app.sweep.measures import MEASURES
 from thzarray.app.units import DIMENSIONS
 
@@ -119,7 +120,7 @@ class Sweep:
 
     def data_at(self, index) -> dict:
         """The base design's TOML data with the axis values at ``index`` substituted."""
-        data = copy.deepcopy(self.design.raw)
+        data = design_data(self.design)
         for axis, i in zip(self.axes, index):
             _substitute(data, axis.key, axis.value(i))
         return data
@@ -221,7 +222,7 @@ def _axis_spec(problems, key, design: Design):
         problems.append(f"vary.{key}: {spec.kind.replace(':', ' of ')} values cannot be "
                         f"varied; allowed: {allowed}")
         return None
-    raw = design.raw
+    raw = design_data(design)
     if section in _SOURCE_SECTIONS and section not in raw:
         has = next(s for s in _SOURCE_SECTIONS if s in raw)
         hint = {"filament": f"filament.{name}", "layout": f"layout.{name}",
@@ -262,7 +263,7 @@ def _axis_values(checker, key, value, spec):
         return None if any(o is None for o in out) else np.array(out, dtype=np.int64)
     grid = Spec(f"grid:{spec.kind}", low=spec.low, high=spec.high, low_open=spec.low_open)
     out = checker.value(f"vary.{key}", value, grid)
-    return None if out is None else np.asarray(out, dtype=float)
+    return None if out is None else grid_values(out)
 
 
 def _axis(problems, key, value, spec, design):
@@ -277,7 +278,7 @@ def _axis(problems, key, value, spec, design):
         problems.append(f"vary.{key}: {value!r} repeats a value; allowed: distinct values")
         return None
     for i in sorted({0, values.size - 1}):
-        data = copy.deepcopy(design.raw)
+        data = design_data(design)
         _substitute(data, key, axis.value(i))
         try:
             parse_design(data, design.path)

@@ -1,0 +1,230 @@
+"""What a design says to every command: the band, the target, the phasing of its columns,
+and which of its sections a command uses.
+
+One design flows through every command. The phasing of its columns is resolved once, the
+same way everywhere (:func:`phasing`):
+
+1. delays asked for on the command line (``--toward``) are computed by the design's
+   ``[steering].method``;
+2. otherwise stored delays (``[steering].delays``, as ``steer --write`` writes them) are
+   used as they are;
+3. otherwise a ``[steering]`` section asks for delays toward ``[steering].toward`` (or the
+   band cone when no direction is given), computed by its method;
+4. otherwise the columns keep their own delays.
+
+The band is ``--band``, else ``[steering].band``, else the receiver's pass band, else
+``[cone].band``, else the observation frequencies. The target is the steering direction
+(an :class:`~thzarray.array.targets.Aperture` when ``[steering]`` gives one), else the band
+cone of the first column at azimuth 0 about its axis.
+"""
+
+from __future__ import annotations
+
+import warnings
+from dataclasses import dataclass
+
+import numpy as np
+
+from thzarray.app.design import Design
+from thzarray.array.targets import Aperture, Direction
+from thzarray.base.geometry import angles_of, unit_vectors
+
+__all__ = ["Phasing", "band_of", "phasing", "section_notes", "target_of"]
+
+# Sections each command uses; a present section a command does not use gets one line.
+_USES = {
+    "pattern": {"medium", "laser", "plasma", "steering", "observe", "cone", "outputs"},
+    "map": {"medium", "laser", "plasma", "steering", "receiver", "plane", "outputs"},
+    "budget": {"medium", "laser", "plasma", "steering", "receiver", "budget", "outputs"},
+    "steer": {"medium", "laser", "plasma", "steering", "receiver", "cone", "observe",
+              "outputs"},
+    "compare": {"medium", "laser", "plasma", "steering", "receiver", "cone", "observe",
+                "outputs"},
+    "tolerance": {"medium", "laser", "plasma", "steering", "receiver", "cone", "observe",
+                  "tolerance", "outputs"},
+}
+_WHO = {"tolerance": "tolerance", "receiver": "map, budget and the steering band",
+        "plane": "map", "budget": "budget", "observe": "pattern (and as the last band)",
+        "cone": "pattern (and as a band)", "steering": "every command"}
+_ALWAYS = {"design", "filament", "filaments", "layout"}
+
+
+def section_notes(design: Design, command: str) -> list:
+    """One line for each section of the design that ``command`` does not use."""
+    used = _USES.get(command)
+    if used is None:
+        return []
+    notes = []
+    for name in ("tolerance", "receiver", "plane", "budget", "observe", "cone"):
+        if getattr(design.sections, name) is not None and name not in used | _ALWAYS:
+            notes.append(f"[{name}] is not used by {command} (it is used by {_WHO[name]})")
+    return notes
+
+
+def _band_text(freq) -> str:
+    if freq.size == 1:
+        return f"{freq[0] / 1e12:.4g} THz"
+    return f"{freq[0] / 1e12:.4g}-{freq[-1] / 1e12:.4g} THz ({freq.size} samples)"
+
+
+def band_of(design: Design, override=None):
+    """(freq (Hz), where it came from) of the band used for gains, steering and tolerances."""
+    st = design.steering
+    points = 9 if st is None else st.band_points
+    if override is not None:
+        band, source = np.atleast_1d(np.asarray(override, dtype=float)), "--band"
+    elif st is not None and st.band is not None:
+        band, source = np.asarray(st.band, dtype=float), "[steering].band"
+    elif design.receiver_band is not None:
+        return design.receiver_band, "the receiver's pass band"
+    elif design.cone is not None and design.cone.band is not None:
+        band, source = np.asarray(design.cone.band, dtype=float), "[cone].band"
+    else:
+        f = np.asarray(design.grid.freq, float)
+        return f, "[observe].freq"
+    if band.size == 1:
+        return band, source
+    return np.linspace(band[0], band[-1], points), source
+
+
+def _cone_direction(design: Design, band) -> tuple:
+    """The band cone of the first column at azimuth 0 about its axis (theta, phi)."""
+    from thzarray.field.cone import band_cone_angle, cone_angle
+
+    fil = design.filaments[0]
+    if band.size == 1:
+        cone = float(cone_angle(fil.length, band[0], design.medium))
+    else:
+        cone = band_cone_angle(fil.length, band, medium=design.medium)
+    a = np.asarray(fil.axis)
+    ref = np.array([1.0, 0.0, 0.0]) if abs(a[0]) < 0.99 else np.array([0.0, 1.0, 0.0])
+    e1 = ref - (ref @ a) * a
+    e1 /= np.linalg.norm(e1)
+    theta, phi = angles_of(np.cos(cone) * a + np.sin(cone) * e1)
+    return float(theta), float(phi)
+
+
+def target_of(design: Design, band, toward=None):
+    """(target, where its direction came from): a Direction, or an Aperture when the design's
+    [steering] gives an aperture."""
+    st = design.steering
+    if toward is not None:
+        (theta, phi), source = toward, "--toward"
+    elif st is not None and st.toward is not None:
+        (theta, phi), source = st.toward, "[steering].toward"
+    else:
+        (theta, phi), source = _cone_direction(design, band), "the band cone at azimuth 0"
+    if not 0.0 <= theta <= np.pi:
+        raise ValueError(f"toward theta = {np.degrees(theta):.6g} deg is not allowed; allowed: "
+                         "0 to 180 deg")
+    if st is not None and st.aperture_radius is not None:
+        return Aperture(theta, phi, radius=st.aperture_radius,
+                        distance=st.aperture_distance), source
+    return Direction(theta, phi), source
+
+
+@dataclass(frozen=True, eq=False)
+class Phasing:
+    """The columns with the delays a command uses, the target and the band.
+
+    Attributes
+    ----------
+    filaments : tuple of Filament
+        The columns with their delays.
+    delays : ndarray, shape (N,)
+        The delays (s).
+    target : Direction or Aperture
+    band : ndarray, shape (F,)
+        Band samples (Hz).
+    how : str
+        Where the delays come from.
+    band_source, target_source : str
+        Where the band and the target direction come from.
+    method : str or None
+        The steering method that computed the delays (None when not computed here).
+    design_result : SteeringDesign or None
+        The designer's result for the ``optimise`` method.
+    """
+
+    filaments: tuple
+    delays: np.ndarray
+    target: object
+    band: np.ndarray
+    how: str
+    band_source: str
+    target_source: str
+    method: str | None = None
+    design_result: object = None
+
+    def describe(self) -> str:
+        """One line: target, band and delays used."""
+        t = self.target
+        where = (f"aperture of radius {t.radius * 1e3:.3g} mm at {t.distance:.4g} m"
+                 if isinstance(t, Aperture) else "direction")
+        return (f"target theta {np.degrees(t.theta):.4g} deg, phi {np.degrees(t.phi):.4g} deg "
+                f"({where}, from {self.target_source}); band {_band_text(self.band)} (from "
+                f"{self.band_source}); delays: {self.how}")
+
+    def summary(self) -> dict:
+        t = self.target
+        out = {"target": {"theta_deg": float(np.degrees(t.theta)),
+                          "phi_deg": float(np.degrees(t.phi)),
+                          "kind": "aperture" if isinstance(t, Aperture) else "direction",
+                          "from": self.target_source},
+               "band_hz": self.band.tolist(), "band_from": self.band_source,
+               "delays_s": self.delays.tolist(), "delays_from": self.how}
+        if isinstance(t, Aperture):
+            out["target"].update(radius_m=t.radius, range_m=t.distance)
+        return out
+
+
+def _computed(design, target, band, method):
+    from thzarray.array.beam import ConeNullWarning
+    from thzarray.array.designer import design_steering
+    from thzarray.array.steering import phase_only_delays, steering_delays
+
+    st = design.steering
+    if method == "optimise":
+        with warnings.catch_warnings():
+            # the design's report carries the same statement in its notes
+            warnings.simplefilter("ignore", ConeNullWarning)
+            result = design_steering(design.filaments, target, band,
+                                     max_delay=None if st is None else st.max_delay,
+                                     medium=design.medium, plasma=design.plasma)
+        return result.delays, result
+    if method == "phase-only":
+        return phase_only_delays(design.filaments, target.theta, target.phi, st.design_freq,
+                                 design.medium), None
+    return steering_delays(design.filaments, target.theta, target.phi, design.medium), None
+
+
+def phasing(design: Design, toward=None, band=None) -> Phasing:
+    """Resolve the design's delays, target and band (module docstring)."""
+    from thzarray.array.layouts import with_delays
+
+    freq, band_source = band_of(design, band)
+    target, target_source = target_of(design, freq, toward)
+    st = design.steering
+    method = "true-time" if st is None else st.method
+    result = None
+    if toward is not None:
+        delays, result = _computed(design, target, freq, method)
+        how = f"{method} toward --toward"
+        if st is not None and st.delays is not None:
+            how += " (the stored [steering].delays are not used)"
+    elif st is not None and st.delays is not None:
+        delays, how, method = np.asarray(st.delays, dtype=float), "stored [steering].delays", None
+    elif st is not None:
+        delays, result = _computed(design, target, freq, method)
+        how = f"{method} toward {target_source}"
+    else:
+        delays = np.array([f.delay for f in design.filaments])
+        how, method = "the columns' own delays (no [steering])", None
+    delays = np.asarray(delays, dtype=float)
+    return Phasing(with_delays(design.filaments, delays), delays, target, freq, how,
+                   band_source, target_source, method, result)
+
+
+def target_unit_vector(target) -> np.ndarray:
+    """Unit vector toward a target's centre."""
+    return unit_vectors(target.theta, target.phi)[0]
