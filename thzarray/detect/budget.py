@@ -11,9 +11,9 @@ relative humidity h (the THz index, hence the cone, changes with humidity: ITU-R
 same :class:`~thzarray.air.medium.Medium`), the power attenuation coefficient
 :math:`\alpha_h` of ITU-R P.676 (:mod:`thzarray.air.absorption`), and the receiver's
 weights: for a
-:class:`~thzarray.detectors.NarrowbandReceiver` the pass-band weights, its polarization
+:class:`~thzarray.detect.receivers.NarrowbandReceiver` the pass-band weights, its polarization
 :math:`\hat p` and its plane-wave effective area (A, or :math:`2\pi w_0^2` for a Gaussian
-beam); for a :class:`~thzarray.detectors.BroadbandDetector` facing the source, its
+beam); for a :class:`~thzarray.detect.receivers.BroadbandDetector` facing the source, its
 response times trapezoid weights, area A and the full transverse field.
 """
 
