@@ -19,6 +19,10 @@ $(VENV)/.install-stamp-test: pyproject.toml | $(PY)
 	$(PIP) install --quiet -e ".[test]"
 	touch $@
 
+$(VENV)/.install-stamp-docs: pyproject.toml | $(PY)
+	$(PIP) install --quiet -e ".[docs]"
+	touch $@
+
 demo: $(VENV)/.install-stamp
 	$(VENV)/bin/thzarray demo --out gallery --force
 
@@ -29,5 +33,9 @@ test: $(VENV)/.install-stamp-test
 bench: $(VENV)/.install-stamp-test
 	$(PY) -m benchmarks
 
+# The API reference from the docstrings; every Sphinx warning is an error.
+docs: $(VENV)/.install-stamp-docs
+	$(VENV)/bin/sphinx-build -W --keep-going -b html docs docs/_build/html
+
 clean:
-	rm -rf $(VENV) .pytest_cache .hypothesis
+	rm -rf $(VENV) .pytest_cache .hypothesis docs/_build docs/api

@@ -38,7 +38,7 @@ Here :math:`p` is the DRY-air pressure and :math:`e` the water-vapour partial pr
 (hPa), :math:`\theta = 300/T` with T in kelvin. The water-vapour continuum is, as the
 Recommendation specifies it, the pseudo-line at 1780 GHz in the last row of Table 2.
 
-Humidity is handled as in :mod:`thzarray.medium` (ITU-R P.453): ``e = RH * e_s(t, P)`` with
+Humidity is handled as in :mod:`~thzarray.air.medium` (ITU-R P.453): ``e = RH * e_s(t, P)`` with
 the P.453 saturation pressure, ``P_dry = P - e``, and vapour density ``rho = 216.7 e / T``.
 
 Validity: 1 GHz to 1000 GHz (the Recommendation's range). Outside it the formula is still
@@ -251,7 +251,7 @@ def attenuate(field, freq, path_length, medium):
     Parameters
     ----------
     field : array_like, complex, shape ``S + (3,)``
-        Field spectrum (any unit), e.g. the result of :func:`thzarray.nearfield.field_at`.
+        Field spectrum (any unit), e.g. the result of :func:`~thzarray.field.nearfield.field_at`.
     freq : array_like
         Frequency (Hz), broadcastable to ``S``.
     path_length : array_like

@@ -60,7 +60,7 @@ class GratingLobe:
     theta, phi : float
         Direction of the lobe's peak on the sky grid (rad).
     array_factor_db : float
-        |AF|^2 / (sum |q_n|)^2 there at the band's highest frequency (dB).
+        ``|AF|^2 / (sum |q_n|)^2`` there at the band's highest frequency (dB).
     pattern_db : float
         Band energy there relative to the main lobe's peak (dB), element pattern included.
     """

@@ -61,7 +61,7 @@ class ArrayGain:
     single : float
         Mean energy of one column alone (J/sr or J, see ``unit``).
     incoherent : float
-        Exact mean over random relative phases, sum_n |g_n|^2.
+        Exact mean over random relative phases, ``sum_n |g_n|^2``.
     incoherent_mc, incoherent_mc_error : float
         Seeded Monte Carlo estimate of the same and its standard error.
     trials : int
@@ -71,7 +71,7 @@ class ArrayGain:
     ideal : float
         N^2 times ``single``: identical columns all in phase.
     coherent_limit : float
-        (sum_n |g_n|)^2, the most any phases can give (equals ``ideal`` for identical columns).
+        ``(sum_n |g_n|)^2``, the most any phases can give (equals ``ideal`` for identical columns).
     directivity : float
         Band directivity toward the target's centre (NaN unless asked for).
     unit : str
@@ -173,7 +173,7 @@ def directivity(filaments, theta, phi, freq, medium: Medium | None = None,
                                {\\sum_j \\Delta f_j w_j\\, dW/df}
 
     (C. A. Balanis, Antenna Theory, fundamental parameters: directivity), the denominator
-    from :func:`thzarray.farfield.spectral_energy`.
+    from :func:`~thzarray.field.energy.spectral_energy`.
     """
     fils = as_filaments(filaments)
     theta = _check_theta("theta", theta)
@@ -209,7 +209,7 @@ def array_factor_directivity(filaments, freq, theta, phi, medium: Medium | None 
 
     integrated numerically: composite 16-point Gauss-Legendre panels in cos(theta), at least
     three per oscillation of the phase k * extent, and the trapezoid rule in phi (exact for
-    the trigonometric polynomial |AF|^2 once the nodes exceed twice its degree).
+    the trigonometric polynomial ``|AF|^2`` once the nodes exceed twice its degree).
     """
     fils = as_filaments(filaments)
     medium = Medium.vacuum() if medium is None else medium

@@ -1,6 +1,6 @@
 r"""Multi-filament layouts: where the columns sit, and the array sum of their fields.
 
-A layout is a plain tuple of :class:`~thzarray.filament.Filament`, so
+A layout is a plain tuple of :class:`~thzarray.source.filament.Filament`, so
 :func:`thzarray.field.farfield.far_field` sums it as it is. The builders place column starts in
 the plane transverse to a common beam axis (default +z) around ``center``: a line, a
 rectangular grid, a hexagonal patch, a ring, or random points in a circular aperture with a

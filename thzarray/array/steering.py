@@ -23,7 +23,8 @@ Phasing multiplies the element pattern by the array factor; it cannot lift the e
 pattern. One column's cone is hollow (null on its axis), so a target off the cone gets
 :math:`N^2` times what *one column sends there*, not :math:`N^2` times the cone's maximum.
 Every report states the element level at the target relative to the cone maximum
-(:func:`cone_level`) and warns (:class:`ConeNullWarning`) when the target sits in the null.
+(:func:`cone_level`) and warns (:class:`~thzarray.array.beam.ConeNullWarning`) when the
+target sits in the null.
 
 The beam metrics of a steered layout are in :mod:`thzarray.array.beam`, the delay designer
 in :mod:`thzarray.array.designer`.
@@ -136,7 +137,7 @@ class ConeLevel:
     freq : ndarray, shape (F,)
         Frequencies (Hz).
     level : ndarray, shape (F,)
-        sum_n q_n^2 |g_n(target)|^2 / sum_n q_n^2 max|g_n|^2 at each frequency.
+        ``sum_n q_n^2 |g_n(target)|^2 / sum_n q_n^2 max|g_n|^2`` at each frequency.
     band : float
         The same ratio of band sums (weights of :func:`thzarray.base.band.band_weights`).
     """
@@ -244,9 +245,9 @@ class SquintReport:
     pointing_error : ndarray, shape (F,)
         Angle between that lobe and the target (rad).
     target_level : ndarray, shape (F,)
-        |AF(target)|^2 / |AF(lobe)|^2: the fraction of the lobe's peak the target receives.
+        ``|AF(target)|^2 / |AF(lobe)|^2``: the fraction of the lobe's peak the target receives.
     coherence : ndarray, shape (F,)
-        |AF(target)|^2 / (sum |q_n|)^2: 1 when every column arrives in phase.
+        ``|AF(target)|^2 / (sum |q_n|)^2``: 1 when every column arrives in phase.
     """
 
     freq: np.ndarray

@@ -230,7 +230,7 @@ class TargetFields:
 
     @property
     def incoherent(self) -> float:
-        """Mean energy for independent uniformly random phases: sum_n |g_n|^2."""
+        """Mean energy for independent uniformly random phases: ``sum_n |g_n|^2``."""
         return float(np.sum(np.abs(self.g) ** 2))
 
     @property
@@ -240,7 +240,7 @@ class TargetFields:
 
     @property
     def coherent_limit(self) -> float:
-        """(sum_n |g_n|)^2 summed over frequencies and nodes: the most any phases give."""
+        """``(sum_n |g_n|)^2`` summed over frequencies and nodes: the most any phases give."""
         mag = np.sqrt(np.sum(np.abs(self.g) ** 2, axis=-1))  # (N, F, J)
         return float(np.sum(mag.sum(axis=0) ** 2))
 

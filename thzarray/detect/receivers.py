@@ -21,7 +21,7 @@ frequency of a field whose wave arrives near the detector's normal is
   :func:`thzarray.app.tables.read_response`),
   :math:`W = A\int R(f)\,2n_T\varepsilon_0 c\,|\mathbf E - (\hat n\cdot\mathbf E)\hat n|^2 df`.
 - Polarization analysis on a surface (:func:`surface_polarization`), reusing
-  :mod:`thzarray.polarization`: Stokes parameters in the local (radial, azimuthal) basis
+  :mod:`~thzarray.field.polarization`: Stokes parameters in the local (radial, azimuthal) basis
   about a beam axis and the degree of radial polarization.
 
 A linearly polarized receiver scanned across a radially polarized cone records two lobes
@@ -151,9 +151,9 @@ def received_energy(receiver: NarrowbandReceiver, freq, field_, medium: Medium |
     medium : Medium, optional
         Sets n_T in the flux (vacuum by default).
     surface : Surface, optional
-        Required for a Gaussian-beam receiver: a :func:`~thzarray.surfaces.plane_scan` whose grid
-        the field is sampled on (field shape (F, ny, nx, 3)); the field outside the grid is
-        taken as zero.
+        Required for a Gaussian-beam receiver: a :func:`~thzarray.field.surfaces.plane_scan`
+        whose grid the field is sampled on (field shape (F, ny, nx, 3)); the field outside the
+        grid is taken as zero.
 
     Returns
     -------
@@ -287,7 +287,7 @@ def surface_polarization(field_, points, freq, axis=(0.0, 0.0, 1.0), origin=(0.0
 
     The field's components transverse to the line of sight from ``origin`` (the ones a
     detector facing ``origin`` measures) are analysed with
-    :func:`thzarray.polarization.polarization_map`; the longitudinal near-field part is
+    :func:`~thzarray.field.polarization.polarization_map`; the longitudinal near-field part is
     left out.
 
     Parameters

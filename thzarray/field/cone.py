@@ -1,6 +1,6 @@
 r"""Cone angle of a filament's emission and the plasma length that gives a wanted cone.
 
-One uniform column of length L along z radiates (see :mod:`thzarray.farfield`)
+One uniform column of length L along z radiates (see :mod:`~thzarray.field.farfield`)
 
 .. math:: \frac{d^2W}{df\,d\Omega} \propto \sin^2\theta\,
           \frac{\sin^2 X}{(n_g - n_T\cos\theta)^2},

@@ -95,7 +95,7 @@ def source_spectral_energy(filament: Filament, freq, medium: Medium | None = Non
                            plasma: Plasma | None = None) -> np.ndarray:
     """dW/df (J/Hz) of one uniform column computed in source space, without the sphere.
 
-    An independent route to :func:`spectral_energy`: integrating |F|^2 over all directions
+    An independent route to :func:`spectral_energy`: integrating ``|F|^2`` over all directions
     analytically first turns the energy into a double integral over the current,
 
     .. math:: \\frac{dW}{df} = 2 n_T\\varepsilon_0 c \\left(\\frac{\\omega\\mu_0|I|q}{4\\pi}\\right)^2

@@ -20,7 +20,7 @@ The field (J. D. Jackson, Classical Electrodynamics, 3rd ed., secs. 9.1-9.2,
 
 For a uniform column the integral is :math:`L e^{iuL/2}\operatorname{sinc}(uL/2)`, exact and
 finite at phase matching (u = 0) and on the axis. For a profiled column it is the exact
-transform of the column's piecewise-cubic profile (see :mod:`thzarray.filament`), whose
+transform of the column's piecewise-cubic profile (see :mod:`~thzarray.source.filament`), whose
 only error is the profile's interpolation error.
 
 The spectral-angular energy density (one-sided in frequency, per hertz) follows from
@@ -28,7 +28,7 @@ Parseval's theorem and the Poynting flux :math:`n_T\varepsilon_0 c|\mathbf E|^2`
 
 .. math:: \frac{d^2W}{df\,d\Omega} = 2 n_T \varepsilon_0 c\,|\mathbf F|^2 \quad[\mathrm{J/(Hz\,sr)}].
 
-Without a :class:`~thzarray.plasma.Plasma` the current spectrum is 1 A s at every frequency:
+Without a :class:`~thzarray.source.plasma.Plasma` the current spectrum is 1 A s at every frequency:
 patterns are then per unit current spectrum and energies need the plasma's (or a measured)
 calibration factor.
 """
@@ -93,7 +93,7 @@ class FarField:
 
     @property
     def magnitude_squared(self) -> np.ndarray:
-        """|e_theta|^2 + |e_phi|^2 ((V s)^2), shape ``shape``."""
+        """``|e_theta|^2 + |e_phi|^2`` ((V s)^2), shape ``shape``."""
         return np.abs(self.e_theta) ** 2 + np.abs(self.e_phi) ** 2
 
     @property

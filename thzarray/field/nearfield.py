@@ -3,7 +3,7 @@ r"""Fields of filaments at finite distance: the exact line integral of the full 
 Model
 -----
 Column n carries :math:`I_n(s,\omega) = q_n w_n(s) I(\omega) e^{i\omega(t_n + s n_g/c)}` at
-:math:`\mathbf r_n + s\hat a_n` (the conventions of :mod:`thzarray.farfield`). With
+:math:`\mathbf r_n + s\hat a_n` (the conventions of :mod:`~thzarray.field.farfield`). With
 :math:`e^{-i\omega t}` the current density is :math:`\mathbf J = -i\omega\mathbf P` for the
 polarization :math:`\mathbf P = i\mathbf J/\omega`, and continuity
 (:math:`\nabla\cdot\mathbf J = i\omega\rho`) gives the charge
@@ -33,7 +33,7 @@ Fresnel approximation. Far away, :math:`R e^{-ikR}\mathbf E(R\hat r) \to` the ra
 vector of :func:`thzarray.far_field`.
 
 Quadrature: an oscillation-aware Filon-Legendre panel rule (see
-:mod:`thzarray._near_kernels`), whose cost grows with the number of Fresnel zones along the
+``thzarray.field._near_kernels``), whose cost grows with the number of Fresnel zones along the
 column, not with the number of phase turns.
 
 Minimum distance: points closer to a column than ``MIN_DISTANCE_WAVELENGTHS`` (1/100) of

@@ -42,7 +42,7 @@ class PolarizationMap:
         Angle of the polarization ellipse's major axis from the radial direction (rad),
         in (-pi/2, pi/2]: 0 is radial, +-pi/2 azimuthal.
     degree_radial : ndarray
-        |E_radial|^2 / |E|^2 (0 to 1; NaN where the field or the basis vanishes).
+        ``|E_radial|^2 / |E|^2`` (0 to 1; NaN where the field or the basis vanishes).
     direction : ndarray, shape (..., 3)
         Unit vector along the major axis (the local polarization direction).
     """

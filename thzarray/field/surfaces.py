@@ -193,7 +193,7 @@ class FarFieldDeparture:
     far_profile : ndarray, shape (T,)
         Band-integrated far-field energy density (J/sr).
     relative_difference : ndarray, shape (D,)
-        max over directions of |near - far| / max(far).
+        max over directions of ``|near - far| / max(far)``.
     tolerance : float
     converged_distance : float
         Smallest sampled distance from which on every larger sampled distance is within

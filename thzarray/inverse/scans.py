@@ -16,10 +16,10 @@ The model signal is
 with band weights :math:`w_j` (the trapezoid rule of :mod:`thzarray.base.band` times
 an optional spectral weight, normalised to sum 1), :math:`\hat p` the detector's
 polarization (all components when ``polarization`` is None), :math:`\mathbf F` the far-field
-radiation vector of :func:`thzarray.farfield.far_field` or, when ``distance`` is given,
-:math:`R\,\mathbf E` from :func:`thzarray.nearfield.field_at` at the point
+radiation vector of :func:`~thzarray.field.farfield.far_field` or, when ``distance`` is given,
+:math:`R\,\mathbf E` from :func:`~thzarray.field.nearfield.field_at` at the point
 :math:`R(\sin\theta, 0, \cos\theta)` (the scan pivots about the origin). :math:`\theta_c` is
-the far-field cone angle (:func:`thzarray.cone.cone_angle`) at the band's mean frequency, so
+the far-field cone angle (:func:`~thzarray.field.cone.cone_angle`) at the band's mean frequency, so
 ``amplitude`` A is the signal above ``background`` B at the cone: the peak height for one
 frequency in the far field, close to it otherwise. Parameters:
 
@@ -154,7 +154,7 @@ def fit_scan(angle, signal, freq, distance=None, sigma=None, polarization=None, 
     angle : array_like, shape (N,)
         Polar angle of the detector from the column's axis (rad), 0 to pi, in the x-z plane.
     signal : array_like, shape (N,)
-        Measured signal (any unit, proportional to the band-weighted |E|^2).
+        Measured signal (any unit, proportional to the band-weighted ``|E|^2``).
     freq : float or array_like, shape (B,)
         Detection frequency (Hz), or frequencies sampling the detection band.
     distance : float, optional

@@ -8,7 +8,7 @@ Conventions shared by the whole package
   is ``amplitude * w(s) * I(t - delay - s n_group / c)``.
 - ``w(s)`` is the longitudinal profile (1 for a uniform column). A callable is sampled at
   ``PROFILE_SAMPLES`` equidistant points and interpolated by a not-a-knot cubic spline
-  (interpolation error at most (5/384) h^4 max|w''''|, h = length / (PROFILE_SAMPLES - 1));
+  (interpolation error at most ``(5/384) h^4 max|w''''|``, h = length / (PROFILE_SAMPLES - 1));
   sampled ``(z, w)`` arrays are interpolated by a shape-preserving monotone cubic (PCHIP),
   which never overshoots measured data. Either way the profile becomes a piecewise cubic
   whose Fourier transform the far-field code evaluates exactly.

@@ -113,7 +113,7 @@ class Plasma:
 
     @property
     def response_peak_frequency(self) -> float:
-        """Frequency (Hz) where |1/(w_p^2 - w^2 - i nu w)|^2 peaks: sqrt(w_p^2 - nu^2/2)/(2 pi).
+        """Frequency (Hz) where ``|1/(w_p^2 - w^2 - i nu w)|^2`` peaks: sqrt(w_p^2 - nu^2/2)/(2 pi).
 
         Zero when the oscillation is overdamped (nu^2 > 2 w_p^2).
         """
