@@ -126,7 +126,7 @@ def test_band_and_polarization_fit():
     clean = far_scan(ANGLES, band, weights, pol)
     for seed in range(3):
         y = clean + np.random.default_rng(seed).normal(0.0, NOISE, ANGLES.size)
-        fit = fit_scan(ANGLES, y, band, sigma=NOISE, polarization=pol, spectral_weight=weights,
+        fit = fit_scan(ANGLES, y, band, sigma=NOISE, polarization=pol, detector_response=weights,
                        medium=AIR)
         for name in TRUE:
             assert abs(fit.params[name] - TRUE[name]) < 3 * fit.errors[name], name
