@@ -203,6 +203,23 @@ def _band_power(vec, wts, pol):
     return np.tensordot(wts, power, axes=(0, 0))
 
 
+def _band_guess_length(theta, signal, freq, wts, medium, pol, distance, length0):
+    """Refine a single-frequency length guess for a band: the length on a grid from
+    length0 / 4 to 4 length0 whose band pattern (medium's mismatch, amplitude and background
+    solved linearly) best matches the scan. A band's cone is not the cone at its mean
+    frequency, and a poor start can leave the fit in a side minimum."""
+    best, best_cost = length0, np.inf
+    design = np.ones((theta.size, 2))
+    for length in np.geomspace(length0 / 4, 4 * length0, 49):
+        values = dict(length=length, mismatch=medium.mismatch, start=0.0)
+        design[:, 0] = _scan_power(values, theta, freq, wts, medium, pol, distance, False)[0]
+        coef, *_ = np.linalg.lstsq(design, signal, rcond=None)
+        cost = float(np.sum((design @ coef - signal) ** 2))
+        if coef[0] > 0 and cost < best_cost:
+            best, best_cost = length, cost
+    return float(best)
+
+
 def _guess_length(theta, signal, f_mean, medium):
     """Column length whose cone sits at the angle of the largest signal."""
     i = int(np.argmax(signal))
@@ -282,6 +299,9 @@ def fit_scan(angle, signal, freq, distance=None, sigma=None, polarization=None, 
     f_mean = float(np.sum(wts * freq))
     length0 = (_guess_length(theta, signal_arr, f_mean, medium)
                if signal_arr.shape == theta.shape else 1.0)
+    if freq.size > 1 and signal_arr.shape == theta.shape and np.all(np.isfinite(signal_arr)):
+        length0 = _band_guess_length(theta, signal_arr, freq, wts, medium, pol, distance,
+                                     length0)
     background0 = float(np.min(signal_arr))
     amplitude0 = max(float(np.max(signal_arr)) - background0, np.finfo(float).tiny)
     allowed = ("length", "start", "mismatch", "amplitude", "background")

@@ -72,6 +72,7 @@ from thzarray.source.ionization import (
 )
 from thzarray.source.plasma import (
     Plasma,
+    critical_density,
     finite_radius_note,
     fwhm_to_gaussian_tau,
     plasma_group_index_shift,
@@ -170,17 +171,16 @@ class FilamentationModel:
     their published spread (low / nominal / high, sources and "from memory" marks in
     :mod:`thzarray.source.constants`):
 
-    =================  =========  =========  =========  ================  ================
-    parameter          low        nominal    high       unit              source
-    =================  =========  =========  =========  ================  ================
-    n2                 0.8e-23    3.2e-23    5e-23      m^2/W             from memory
-    o2_cross_section   2.88e-131  3.3e-130   3.6e-130   W^-8 m^16 s^-1    Sharma 2018 /
-                                                                          review 2007
-    clamped_intensity  4e17       5e17       1e18       W/m^2             from memory
-    core_radius        25e-6      50e-6      100e-6     m                 from memory
-    collision_rate     1e12       2e12       5e12       1/s               no source
-    collapse_factor    1          1          2          1                 convention
-    =================  =========  =========  =========  ================  ================
+    =================  =========  =========  =========  ==============  =======================
+    parameter          low        nominal    high       unit            source
+    =================  =========  =========  =========  ==============  =======================
+    n2                 0.8e-23    3.2e-23    5e-23      m^2/W           from memory
+    o2_cross_section   2.88e-131  3.3e-130   3.6e-130   W^-8 m^16 s^-1  Sharma 2018; low: 2007
+    clamped_intensity  4e17       5e17       1e18       W/m^2           from memory
+    core_radius        25e-6      50e-6      100e-6     m               from memory
+    collision_rate     1e12       2e12       5e12       1/s             no source
+    collapse_factor    1          1          2          1               beam-radius convention
+    =================  =========  =========  =========  ==============  =======================
 
     Parameters
     ----------
@@ -444,6 +444,12 @@ def plasma_from_laser(pulse: Pulse, model: FilamentationModel | None = None, *,
     plasma = Plasma(electron_density=col["n_e"], collision_rate=model.collision_rate,
                     pulse_duration=pulse.duration, peak_intensity=model.clamped_intensity,
                     laser_wavelength=pulse.wavelength, radius=model.core_radius)
+    n_c = float(critical_density(pulse.wavelength))
+    if col["n_e"] >= n_c:
+        raise ValueError(f"electron density {col['n_e']:.3g} m^-3 >= the critical density "
+                         f"{n_c:.3g} m^-3 at wavelength = {pulse.wavelength:.4g} m: the pulse "
+                         "cannot travel in its own plasma; allowed: a wavelength or model "
+                         "with n_e below n_c")
     shift = float(plasma_group_index_shift(col["n_e"], pulse.wavelength))
     slip = 2 * np.pi * plasma.plasma_frequency * length * shift / c
     if slip > _PLASMA_SLIP_NOTE:
