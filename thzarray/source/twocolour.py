@@ -42,8 +42,9 @@ cone depends on its length. Over a whole number of periods the current integrate
 nothing is radiated where a uniform column would be in phase (u = 0). A transverse current
 radiates on the axis too (no :math:`\sin\theta` null); its cone is the same peak of the
 array factor, and :func:`thzarray.far_field` with this profile on today's longitudinal
-:class:`~thzarray.source.filament.Filament` gives the same peak to within a fiftieth of the
-lobe width for L >= 5 L_d (checked in the tests by quadrature).
+:class:`~thzarray.source.filament.Filament` gives the same peak: both lie within
+:math:`1.5 L_d/(2\pi L)` lobe widths of :math:`\theta_{pm}` (5 % at L = 5 L_d; the
+counter-rotating half of the sine; checked in the tests by quadrature).
 """
 
 from __future__ import annotations
