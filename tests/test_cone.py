@@ -188,3 +188,51 @@ def test_worked_example_pattern_ratio():
     ratio = pattern(np.radians(6.0)) / pattern(cone)
     assert f"{ratio:.3f}" == "0.218"
     assert pattern(0.0) == 0.0
+
+
+# --- the driver's group index --------------------------------------------------------------
+
+def test_group_index_none_is_the_medium_bit_for_bit():
+    lengths, freqs = np.array([0.05, 0.3, 1.0]), np.array([0.2e12, 0.5e12, 1e12])
+    for medium in (DRY, HUMID, Medium.vacuum()):
+        assert np.array_equal(cone_angle(lengths, freqs, medium, group_index=None),
+                              cone_angle(lengths, freqs, medium))
+        same = cone_angle(lengths, freqs, medium, group_index=medium.n_group)
+        assert np.array_equal(same, cone_angle(lengths, freqs, medium))
+    angle = np.radians(3.0)
+    assert np.array_equal(length_for_cone(angle, 0.3e12, DRY, group_index=None),
+                          length_for_cone(angle, 0.3e12, DRY))
+    assert cone_range(0.3e12, DRY).group_index == DRY.n_group
+
+
+def test_plasma_group_index_moves_the_cone():
+    # The plasma's share n_e / (2 n_c) = 3.7e-5 at 1.3e23 m^-3 (computed) added to dry air's
+    # group index. Each cone is the maximum of the line-current pattern with that K, found
+    # independently (mpmath, mp_peak above).
+    g = DRY.n_group + 3.7e-5
+    plasma_medium = Medium(g, DRY.n_thz)
+    # 1 m at 0.3 THz: the larger mismatch narrows the main lobe by about 3 %.
+    got = float(cone_angle(1.0, 0.3e12, DRY, group_index=g))
+    assert_allclose(got, mp_peak(1.0, 0.3e12, plasma_medium, got), rtol=1e-10)
+    assert got < 0.98 * float(cone_angle(1.0, 0.3e12, DRY))
+    assert_allclose(length_for_cone(got, 0.3e12, DRY, group_index=g), 1.0, rtol=1e-9)
+    # 3 m at 1 THz is past the plasma-corrected minimum cone (2.8 m) but far from dry air's
+    # (17 m): the maximum has moved to a side lobe, much wider than linear air predicts.
+    rng_plasma = cone_range(1e12, DRY, group_index=g)
+    assert rng_plasma.group_index == g
+    assert rng_plasma.length_at_lowest < 3.0 < cone_range(1e12, DRY).length_at_lowest
+    assert rng_plasma.lowest > cone_range(1e12, DRY).lowest
+    got = float(cone_angle(3.0, 1e12, DRY, group_index=g))
+    assert_allclose(got, mp_peak(3.0, 1e12, plasma_medium, got), rtol=1e-10)
+    assert got > 1.5 * float(cone_angle(3.0, 1e12, DRY))
+
+
+def test_band_cone_angle_with_group_index():
+    band = np.linspace(0.2e12, 0.4e12, 5)
+    g = DRY.n_group + 3.7e-5
+    got = band_cone_angle(1.0, band, None, DRY, group_index=g)
+    assert_allclose(got, band_cone_angle(1.0, band, None, Medium(g, DRY.n_thz)), rtol=1e-12)
+    assert band_cone_angle(1.0, band, None, DRY, group_index=None) == band_cone_angle(
+        1.0, band, None, DRY)
+    with pytest.raises(ValueError, match="group_index"):
+        cone_angle(1.0, 1e12, DRY, group_index=0.5)

@@ -5,6 +5,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 from numpy.testing import assert_allclose
+from scipy.constants import c, e, epsilon_0, m_e
 from scipy.special import erf
 from scipy.stats import binom, chi2
 
@@ -14,6 +15,7 @@ from thzarray.app.scans import read_scan as read_scan_csv
 from thzarray.app.units import parse_quantity
 from thzarray.field.nearfield import field_at
 from thzarray.inverse.scans import UNITS, fit_delay_scan, fit_scan
+from thzarray.source.plasma import Plasma
 
 ROOT = Path(__file__).resolve().parents[1]
 AIR = Medium.air()
@@ -126,7 +128,7 @@ def test_band_and_polarization_fit():
     clean = far_scan(ANGLES, band, weights, pol)
     for seed in range(3):
         y = clean + np.random.default_rng(seed).normal(0.0, NOISE, ANGLES.size)
-        fit = fit_scan(ANGLES, y, band, sigma=NOISE, polarization=pol, spectral_weight=weights,
+        fit = fit_scan(ANGLES, y, band, sigma=NOISE, polarization=pol, detector_response=weights,
                        medium=AIR)
         for name in TRUE:
             assert abs(fit.params[name] - TRUE[name]) < 3 * fit.errors[name], name
@@ -287,6 +289,83 @@ def test_bad_fit_arguments():
         fit_scan(ANGLES, y, FREQ, polarization=(0.0, 1.0, 0.0))
     with pytest.raises(ValueError, match="sigma"):
         fit_scan(ANGLES, y, FREQ, sigma=-1.0)
+
+
+# --- declared spectra and the mismatch's predictions --------------------------------------
+
+BAND = np.linspace(0.2e12, 0.4e12, 7)
+
+
+def test_declared_source_spectrum_recovers_the_length():
+    # A noise-free band scan from a source whose radiated field spectrum |w I(w)|^2 is flat
+    # (so the current's power spectrum is f^-2), built here from far_field (far_scan) with
+    # the trapezoid weights times that spectrum. Declared, the fit returns the truth; left
+    # at the old implicit default (flat current, a field growing with f) it fits a column
+    # about 9 % short, and now says what it assumed.
+    current = BAND**-2.0
+    y = far_scan(ANGLES, BAND, current)
+    fit = fit_scan(ANGLES, y, BAND, source_spectrum=current, medium=AIR)
+    for name in TRUE:
+        assert_allclose(fit.params[name], TRUE[name], rtol=1e-6, err_msg=name)
+    assert fit.assumptions == {"source_spectrum": "given at the 7 band frequencies",
+                               "detector_response": "flat detector response (assumed: not "
+                                                    "given)"}
+    assert any(m.startswith("note: detector_response not given") for m in fit.messages)
+    implicit = fit_scan(ANGLES, y, BAND, medium=AIR)
+    assert implicit.params["length"] < 0.95 * TRUE["length"]
+    assert implicit.assumptions["source_spectrum"] == "flat current spectrum (assumed: not given)"
+    assert any("source_spectrum and detector_response not given" in m
+               for m in implicit.messages)
+
+
+@pytest.mark.slow
+def test_flat_current_and_detector_declared_separately():
+    # Flat current spectrum and a Gaussian detector response, declared separately: the
+    # truth, and no note. A Plasma's own current spectrum declared as the source: the truth.
+    detector = np.exp(-(((BAND - 0.3e12) / 0.1e12) ** 2))
+    y = far_scan(ANGLES, BAND, detector)
+    fit = fit_scan(ANGLES, y, BAND, source_spectrum=np.ones(BAND.size),
+                   detector_response=detector, medium=AIR)
+    for name in TRUE:
+        assert_allclose(fit.params[name], TRUE[name], rtol=1e-6, err_msg=name)
+    assert not any("not given" in m for m in fit.messages)
+    plasma = Plasma(electron_density=1e22, collision_rate=2e12)
+    current = np.abs(plasma.current_spectrum(BAND, AIR.n_group)) ** 2
+    y = far_scan(ANGLES, BAND, current * detector)
+    fit = fit_scan(ANGLES, y, BAND, source_spectrum=plasma, detector_response=detector,
+                   medium=AIR)
+    assert_allclose(fit.params["length"], TRUE["length"], rtol=1e-6)
+    assert fit.assumptions["source_spectrum"].startswith("|I(f)|^2 of the given Plasma")
+
+
+def test_spectra_do_not_enter_one_frequency_and_are_checked():
+    y = far_scan(ANGLES)
+    fit = fit_scan(ANGLES, y, FREQ, medium=AIR)
+    assert set(fit.assumptions.values()) == {"one frequency: the spectra do not enter"}
+    assert not any("not given" in m for m in fit.messages)
+    with pytest.raises(ValueError, match="source_spectrum has shape"):
+        fit_scan(ANGLES, far_scan(ANGLES, BAND), BAND, source_spectrum=np.ones(3))
+    with pytest.raises(ValueError, match="detector_response"):
+        fit_scan(ANGLES, far_scan(ANGLES, BAND), BAND, detector_response=-np.ones(BAND.size))
+    with pytest.raises(ValueError, match="all zero"):
+        fit_scan(ANGLES, far_scan(ANGLES, BAND), BAND, detector_response=np.zeros(BAND.size))
+
+
+def test_fitted_mismatch_next_to_its_predictions():
+    # A column driven in its own plasma: n_g = Ciddor's n_g + n_e / (2 n_c), n_c = eps0 m
+    # w0^2 / e^2 (cold plasma, Chen), computed here. The noise-free scan fits that mismatch,
+    # far from linear air's, and the fit reports both predictions beside it.
+    n_e = 1.3e23
+    n_c = epsilon_0 * m_e * (2 * np.pi * c / 800e-9) ** 2 / e**2
+    with_plasma = AIR.mismatch + n_e / (2 * n_c)
+    y = far_scan(ANGLES, mismatch=with_plasma)
+    fit = fit_scan(ANGLES, y, FREQ, medium=AIR, electron_density=n_e)
+    assert fit.predicted["mismatch_linear_air"] == AIR.mismatch
+    assert_allclose(fit.predicted["mismatch_with_plasma"], with_plasma, rtol=1e-12)
+    assert_allclose(fit.params["mismatch"], with_plasma, rtol=1e-6)
+    assert fit.params["mismatch"] > 4 * fit.predicted["mismatch_linear_air"]
+    plain = fit_scan(ANGLES, y, FREQ, medium=AIR)
+    assert set(plain.predicted) == {"mismatch_linear_air"}
 
 
 # --- reading scans ------------------------------------------------------------------------

@@ -3,13 +3,15 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 from numpy.testing import assert_allclose
-from scipy.constants import c, electron_volt, hbar
+from scipy.constants import c, e, electron_volt, epsilon_0, hbar, m_e
 from scipy.constants import k as k_boltzmann
 from scipy.integrate import quad, solve_ivp
+from scipy.optimize import minimize_scalar
 
 from thzarray import Filament, Medium, Plasma
-from thzarray.field.cone import band_cone_angle, cone_angle
+from thzarray.field.cone import band_cone_angle, cone_angle, length_for_cone
 from thzarray.inverse.focusing import focusing_chart, focusing_for_cone
+from thzarray.source.constants import PUBLISHED
 from thzarray.source.ionization import (
     CLAMPED_INTENSITY,
     electron_density,
@@ -19,7 +21,7 @@ from thzarray.source.ionization import (
 from thzarray.source.laser import (
     MARBURGER_MIN_POWER_RATIO,
     N2_AIR,
-    N2_AIR_SPREAD,
+    FilamentationModel,
     Pulse,
     collapse_distance,
     critical_power,
@@ -42,13 +44,18 @@ def test_critical_power_marburger():
     # n2 = 3.2e-19 cm^2/W at 800 nm -> 3.0 GW (computed).
     n2 = 3.2e-19 * 1e-4  # cm^2/W -> m^2/W
     assert N2_AIR == pytest.approx(n2, rel=1e-15)
-    assert N2_AIR_SPREAD == 2.0  # docs/references.rst: "uncertain by a factor of about 2"
+    # Published spread (thzarray.source.constants, from memory): 0.8e-19 to 5e-19 cm^2/W.
+    assert FilamentationModel().spread()["n2"] == pytest.approx((0.8e-23, n2, 5e-23), rel=1e-15)
     # Common practice, no source (docs/references.rst): clamped intensity ~5e13 W/cm^2 at 800 nm.
     assert CLAMPED_INTENSITY == pytest.approx(5e13 * 1e4, rel=1e-15)
     assert_allclose(critical_power(LAMBDA, n2), 3.77 * LAMBDA**2 / (8 * np.pi * n2), rtol=1e-14)
     assert_allclose(critical_power(LAMBDA, n2), 3.0e9, rtol=1e-3)
-    # The factor-2 spread of n2 is a factor-2 spread of P_cr (inverse proportion).
+    # P_cr is inversely proportional to n2: the published n2 range 0.8e-19 to 5e-19 cm^2/W
+    # is a P_cr range of 12.0 to 1.9 GW (computed), spanning the measured 3-10 GW (from
+    # memory: W. Liu and S. L. Chin, Opt. Express 13, 5750 (2005)).
     assert_allclose(critical_power(LAMBDA, n2 / 2) / critical_power(LAMBDA, n2), 2.0, rtol=1e-14)
+    p_lo, p_hi = critical_power(LAMBDA, 5e-23), critical_power(LAMBDA, 0.8e-23)
+    assert p_lo < 3e9 and p_hi > 10e9
 
 
 def test_collapse_distance_reference_check_and_convention():
@@ -225,3 +232,140 @@ def test_focusing_for_cone_gives_the_cone():
     assert_allclose(band_cone_angle(length_b, band, None, medium), target, rtol=1e-7)
     none, _ = focusing_for_cone(target, [1e-5], 0.3e12, medium=medium)
     assert np.isnan(none[0])  # below P_cr: no focal length gives a column
+
+
+# --- published spreads, the driver's group index, validity notes -------------------------
+
+def test_published_constants_are_the_model_defaults():
+    # thzarray.source.constants: sigma_8 nominal (3.3 +- 0.3)e-130 W^-8 m^16 s^-1 (Sharma et
+    # al., Sci. Rep. 8, 2874 (2018), verified); low 2.88e-99 cm^16 W^-8 s^-1 (Couairon &
+    # Mysyrowicz, Phys. Rep. 441, 47 (2007), from memory) converted here to SI.
+    assert PUBLISHED["o2_cross_section"].low == pytest.approx(2.88e-99 * 1e-32, rel=1e-14)
+    assert PUBLISHED["o2_cross_section"].nominal == pytest.approx(3.3e-130, rel=1e-15)
+    assert PUBLISHED["o2_cross_section"].high == pytest.approx(3.6e-130, rel=1e-15)
+    model = FilamentationModel()
+    for name, value in PUBLISHED.items():
+        assert value.low <= value.nominal <= value.high
+        assert getattr(model, name) == value.nominal
+        assert model.spread()[name] == (value.low, value.nominal, value.high)
+    variants = model.variants()
+    # One model per published end that differs from the nominal (collapse_factor has no
+    # distinct low end): 2 x 6 - 1.
+    assert len(variants) == 11
+    for name, end, variant in variants:
+        assert getattr(variant, name) == getattr(PUBLISHED[name], end)
+        others = {n for n in PUBLISHED if getattr(variant, n) != getattr(model, n)}
+        assert others == {name}
+
+
+def test_collapse_factor_is_the_other_reading_of_marburger():
+    # 0.367 k a^2 with a = w0 instead of w0 / sqrt(2): twice the collapse distance.
+    p = 5 * critical_power()
+    z1 = collapse_distance(p, 5e-3)
+    assert_allclose(collapse_distance(p, 5e-3, collapse_factor=2.0), 2 * z1, rtol=1e-14)
+    assert_allclose(z1, marburger_zc(5.0, 5e-3), rtol=1e-12)
+    # With a lens the column starts later (1/z_f = 1/z_c + 1/f) and is no longer.
+    pulse = Pulse(1e-3, 50e-15, 5e-3, focal_length=1.0)
+    _, _, nominal = plasma_from_laser(pulse)
+    _, _, other = plasma_from_laser(pulse, FilamentationModel(collapse_factor=2.0))
+    assert_allclose(other.onset, 1 / (1 / (2 * nominal.collapse_distance) + 1.0), rtol=1e-12)
+    assert other.onset > nominal.onset and other.length <= nominal.length
+
+
+def test_o2_cross_section_sets_the_density():
+    # Below saturation n_e is proportional to sigma_8 (time integral of sigma I^8).
+    low = PUBLISHED["o2_cross_section"].low
+    _, plasma, est = plasma_from_laser(Pulse(1e-3, 50e-15, 5e-3, focal_length=1.0),
+                                       FilamentationModel(o2_cross_section=low))
+    assert_allclose(est.electron_density, electron_density(CLAMPED_INTENSITY, 50e-15, sigma=low),
+                    rtol=1e-14)
+    n_nominal = float(electron_density(CLAMPED_INTENSITY, 50e-15))
+    assert_allclose(est.electron_density / n_nominal, low / 3.3e-130, rtol=0.05)
+
+
+def test_estimate_reports_the_driver_group_index():
+    # Group index of the column: Ciddor's n_g of the air plus n_e / (2 n_c), n_c = eps0 m
+    # w0^2 / e^2 (cold plasma, Chen), computed here; the Kerr change n2 I at the peak.
+    medium = Medium.air(20.0, 100000.0, 0.3)
+    pulse = Pulse(1e-3, 50e-15, 5e-3, focal_length=1.0)
+    _, plasma, est = plasma_from_laser(pulse, medium=medium)
+    n_c = epsilon_0 * m_e * (2 * np.pi * c / LAMBDA) ** 2 / e**2
+    assert est.air_group_index == medium.n_group
+    assert_allclose(est.plasma_group_index_shift, est.electron_density / (2 * n_c), rtol=1e-12)
+    assert_allclose(est.group_index, medium.n_group + est.electron_density / (2 * n_c),
+                    rtol=1e-15)
+    assert_allclose(est.kerr_index_shift, N2_AIR * CLAMPED_INTENSITY, rtol=1e-15)
+    assert est.radius_parameter == plasma.radius_parameter
+    # Default medium: dry standard air at the pulse's wavelength.
+    _, _, default = plasma_from_laser(pulse)
+    assert default.air_group_index == Medium.air().n_group
+    # 5.4 cm column: 2 pi f_p L n_e/(2 n_c) / c = 0.13 rad, no note; a collimated 1 mJ pulse
+    # gives a 42 cm budget-limited column and about 1 rad: the note says so.
+    assert default.notes == ()
+    _, long_plasma, long = plasma_from_laser(Pulse(1e-3, 50e-15, 5e-3))
+    slip = 2 * np.pi * long_plasma.plasma_frequency * long.length * long.plasma_group_index_shift / c
+    assert (slip > 1) == any("group_index=estimate.group_index" in n for n in long.notes)
+    _, _, far = plasma_from_laser(Pulse(3e-3, 100e-15, 5e-3))
+    assert any("group_index=estimate.group_index" in n for n in far.notes)
+
+
+def test_thin_column_note():
+    # The low published sigma_8 gives 1.1e22 m^-3: omega_p a / c = 1.0 < 2 for a = 50 um.
+    _, plasma, est = plasma_from_laser(Pulse(1e-3, 50e-15, 5e-3, focal_length=1.0),
+                                       FilamentationModel(o2_cross_section=2.88e-131))
+    assert est.radius_parameter < 2
+    assert any(n.startswith("omega_p a / c =") for n in est.notes)
+    # The nominal sigma_8 (1.3e23 m^-3): 3.4 at a = 50 um, no note; 1.7 at a = 25 um.
+    _, _, wide = plasma_from_laser(Pulse(1e-3, 50e-15, 5e-3, focal_length=1.0))
+    assert wide.radius_parameter >= 2 and not any("omega_p a / c" in n for n in wide.notes)
+    _, _, thin = plasma_from_laser(Pulse(1e-3, 50e-15, 5e-3, focal_length=1.0),
+                                   FilamentationModel(core_radius=25e-6))
+    assert_allclose(thin.radius_parameter, wide.radius_parameter / 2, rtol=1e-14)
+    assert any(n.startswith("omega_p a / c =") for n in thin.notes)
+
+
+def test_focusing_with_the_plasma_group_index():
+    # group_index=None is medium.n_group bit for bit; a given index is recorded and used.
+    medium = Medium.air()
+    target, energy = np.radians(2.5), np.array([1e-3, 2e-3])
+    plain = focusing_for_cone(target, energy, 0.3e12, medium=medium)
+    focal, length = plain
+    assert plain.group_index == medium.n_group
+    same = focusing_for_cone(target, energy, 0.3e12, medium=medium, group_index=medium.n_group)
+    assert np.array_equal(same.focal_length, focal) and same.length == length
+    _, _, est = plasma_from_laser(Pulse(1e-3, 50e-15, 5e-3, focal_length=1.0))
+    res = focusing_for_cone(target, energy, 0.3e12, medium=medium, group_index=est.group_index)
+    assert res.group_index == est.group_index
+    assert_allclose(res.length, length_for_cone(target, 0.3e12, medium,
+                                                group_index=est.group_index), rtol=1e-12)
+    # Independent check: the maximum of sin^2(theta) sin^2(X) / (n_g - n_T cos theta)^2,
+    # X = (w L / 2c)(n_g - n_T cos theta) (Jackson secs. 9.1-9.2, traveling line current),
+    # found here by a grid and bounded search with the plasma's n_g, is the target.
+    w = 2 * np.pi * 0.3e12
+    n_g, n_t = est.group_index, medium.n_thz
+
+    def pattern(t):
+        d = n_g - n_t * np.cos(t)
+        return -(np.sin(t) * np.sin(w * res.length / (2 * c) * d) / d) ** 2
+
+    grid = np.linspace(1e-4, 0.2, 20001)
+    i = int(np.argmin(pattern(grid)))
+    best = minimize_scalar(pattern, bounds=(grid[i - 1], grid[i + 1]), method="bounded",
+                           options={"xatol": 1e-13}).x
+    assert_allclose(best, target, rtol=1e-7)
+    # The slower driver reaches the cone with a shorter column (2 % at 2.5 deg, 0.3 THz),
+    # hence a shorter lens.
+    assert res.length < 0.99 * length and np.all(res.focal_length < focal)
+    chart = focusing_chart([1.0], [1e-3], 0.3e12, medium=medium, group_index=est.group_index)
+    assert chart.group_index == est.group_index
+    assert_allclose(chart.cone_angle[0, 0],
+                    cone_angle(chart.length[0, 0], 0.3e12, medium, group_index=est.group_index),
+                    rtol=1e-12)
+
+
+def test_overcritical_plasma_is_refused():
+    # n_c = eps0 m w0^2 / e^2 is 2.8e24 m^-3 at 20 um (computed); full O2 ionization at
+    # the high published clamped intensity (5.3e24 m^-3) is above it.
+    model = FilamentationModel(clamped_intensity=1e18)
+    with pytest.raises(ValueError, match="critical density"):
+        plasma_from_laser(Pulse(10.0, 50e-15, 5e-3, wavelength=2e-5), model)

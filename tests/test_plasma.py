@@ -1,3 +1,4 @@
+import mpmath as mp
 import numpy as np
 import pytest
 from numpy.testing import assert_allclose
@@ -5,7 +6,15 @@ from scipy.constants import c, e, epsilon_0, m_e
 from scipy.integrate import solve_ivp
 from scipy.optimize import minimize_scalar
 
-from thzarray.source.plasma import Plasma, fwhm_to_gaussian_tau
+from thzarray.air.medium import Medium
+from thzarray.source.plasma import (
+    MIN_RADIUS_PARAMETER,
+    Plasma,
+    critical_density,
+    finite_radius_note,
+    fwhm_to_gaussian_tau,
+    plasma_group_index_shift,
+)
 
 
 def test_plasma_frequency_nrl():
@@ -74,3 +83,58 @@ def test_plasma_rejects_bad_input(kwargs, name):
 def test_current_spectrum_rejects_negative_frequency():
     with pytest.raises(ValueError, match="freq"):
         Plasma(1e22, 1e12).current_spectrum([-1.0])
+
+
+# --- the driver's speed in its own plasma; the finite-radius validity limit --------------
+
+def test_critical_density():
+    # n_c = eps0 m w0^2 / e^2 (Chen, light waves in a plasma); the practical form
+    # n_c = 1.115e21 / lambda[um]^2 cm^-3 (from memory) gives 1.74e21 cm^-3 at 0.8 um.
+    assert_allclose(critical_density(800e-9), 1.115e21 / 0.8**2 * 1e6, rtol=2e-3)
+    wl = np.array([400e-9, 800e-9, 1.6e-6])
+    assert_allclose(critical_density(wl),
+                    epsilon_0 * m_e * (2 * np.pi * c / wl) ** 2 / e**2, rtol=1e-14)
+
+
+@pytest.mark.parametrize("n_e", [1e21, 1.3e23, 1e25])
+def test_group_index_shift_against_exact_cold_plasma(n_e):
+    # Cold plasma: omega^2 = omega_p^2 + c^2 k^2 (Chen). The exact group index c dk/domega is
+    # taken here by arbitrary-precision numerical differentiation of k(omega) (mpmath), and
+    # n_e / (2 n_c) must agree with it to its first order: the remainder is
+    # (3/8) (n_e/n_c)^2 + O((n_e/n_c)^3).
+    w0 = 2 * np.pi * c / 800e-9
+    wp2 = n_e * e**2 / (epsilon_0 * m_e)
+    with mp.workdps(40):
+        exact = float(mp.diff(lambda w: mp.sqrt(w**2 - mp.mpf(wp2)) / mp.mpf(c),
+                              mp.mpf(w0)) * c - 1)
+    x = n_e / critical_density(800e-9)
+    shift = plasma_group_index_shift(n_e, 800e-9)
+    assert_allclose(exact - shift, 3 / 8 * x**2, rtol=0.01 + 2 * x)
+    p = Plasma(electron_density=n_e, collision_rate=1e12)
+    assert_allclose(p.group_index_shift, shift, rtol=1e-15)
+
+
+def test_plasma_share_against_the_dry_air_mismatch():
+    # 1.3e23 m^-3 at 800 nm adds 3.7e-5 to the group index (computed from n_e / (2 n_c));
+    # dry standard air's n_g - n_T is 7.1e-6 (Ciddor group index minus ITU-R P.453 index):
+    # the plasma's share is about five times the mismatch.
+    shift = float(plasma_group_index_shift(1.3e23))
+    assert round(shift, 6) == 3.7e-5
+    assert 4.5 < shift / Medium.air().mismatch < 5.5
+    with pytest.raises(ValueError, match="electron_density"):
+        plasma_group_index_shift(2e27)  # above n_c = 1.74e27 m^-3: the pulse cannot travel
+
+
+def test_finite_radius_note():
+    # omega_p a / c with f_pe = 8.98e3 sqrt(n_e / cm^-3) Hz (NRL Plasma Formulary).
+    for n_e, radius in ((1.3e23, 50e-6), (1e22, 50e-6), (1.3e23, 10e-6)):
+        p = Plasma(electron_density=n_e, collision_rate=2e12, radius=radius)
+        expected = 2 * np.pi * 8.98e3 * np.sqrt(n_e * 1e-6) * radius / c
+        assert_allclose(p.radius_parameter, expected, rtol=1e-3)
+        note = finite_radius_note(p)
+        assert (note == "") == (expected >= MIN_RADIUS_PARAMETER)
+        if note:
+            assert f"omega_p a / c = {p.radius_parameter:.3g} < 2" in note
+    assert finite_radius_note(Plasma(1e22, 2e12), minimum=0.5) == ""
+    with pytest.raises(ValueError, match="plasma"):
+        finite_radius_note("plasma")

@@ -28,6 +28,15 @@ Reachable cones. Very short columns radiate like a dipole (90 degrees). When
 :math:`\arccos(n_g/n_T)` as the column grows, never below it. When :math:`n_T < n_g` (dry air)
 the main lobe eventually loses to a side lobe near :math:`\arccos(n_T/n_g)`: the cone has a
 minimum, reached at a finite length, and longer columns do not narrow it further.
+
+Which group index. :math:`n_g` is the driver's group index. Every function here takes
+``group_index``: None (the default) uses ``medium.n_group``, the linear air's optical group
+index, exactly as before; a number replaces it, e.g. the column's index with the plasma's
+share :math:`n_e/(2n_c)` (``PlasmaEstimate.group_index`` of
+:func:`thzarray.source.laser.plasma_from_laser`), which in a filament can exceed the dry-air
+mismatch :math:`n_g - n_T` several times and moves the cone of a long column. The index a
+result used is the one given, else ``medium.n_group`` (:func:`driver_group_index`);
+:class:`ConeRange` records it.
 """
 
 from __future__ import annotations
@@ -40,7 +49,7 @@ from scipy.optimize import minimize_scalar
 
 from thzarray.air.medium import Medium
 from thzarray.base.band import band_weights, check_band
-from thzarray.base.checks import as_float_array
+from thzarray.base.checks import as_float_array, check_scalar
 from thzarray.field.farfield import far_field
 from thzarray.source.filament import Filament
 
@@ -49,10 +58,29 @@ __all__ = [
     "band_cone_angle",
     "cone_angle",
     "cone_range",
+    "driver_group_index",
+    "driver_medium",
     "length_for_cone",
 ]
 
 _BISECT_STEPS = 80
+
+
+def driver_medium(medium: Medium | None, group_index: float | None = None) -> Medium:
+    """The medium the cone functions use: ``medium`` (vacuum when None) with its group index
+    replaced by ``group_index`` (1 to 2) when that is given.
+
+    With ``group_index=None`` the medium is returned unchanged (the same object).
+    """
+    medium = Medium.vacuum() if medium is None else medium
+    if group_index is None:
+        return medium
+    return medium.with_group_index(check_scalar("group_index", group_index, low=1.0, high=2.0))
+
+
+def driver_group_index(medium: Medium | None, group_index: float | None = None) -> float:
+    """The driver's group index a cone function uses: ``group_index``, else ``medium.n_group``."""
+    return driver_medium(medium, group_index).n_group
 
 
 def _phi(x):
@@ -121,7 +149,8 @@ def _solve_cone(a, medium):
     return 2 * np.arcsin(np.sqrt(np.clip(omm / 2, 0.0, 1.0))), best == 0
 
 
-def cone_angle(length, freq, medium: Medium | None = None):
+def cone_angle(length, freq, medium: Medium | None = None, *,
+               group_index: float | None = None):
     """Polar angle (rad) of the maximum of one uniform column's far-field pattern.
 
     Exact (not the small-angle rule); see the module docstring for the method.
@@ -134,13 +163,16 @@ def cone_angle(length, freq, medium: Medium | None = None):
         Frequency (Hz), > 0; broadcast with ``length``.
     medium : Medium, optional
         Defaults to vacuum.
+    group_index : float, optional
+        The driver's group index, 1 to 2; ``medium.n_group`` when None (module docstring).
 
     Returns
     -------
     ndarray
-        Cone angle (rad), shape ``np.broadcast_shapes(length.shape, freq.shape)``.
+        Cone angle (rad), shape ``np.broadcast_shapes(length.shape, freq.shape)``, for the
+        group index given, else ``medium.n_group``.
     """
-    medium = Medium.vacuum() if medium is None else medium
+    medium = driver_medium(medium, group_index)
     length = as_float_array("length", length, low=0.0, low_open=True, unit="m")
     freq = as_float_array("freq", freq, low=0.0, low_open=True, unit="Hz")
     a = np.pi * freq * length / c
@@ -153,12 +185,14 @@ class ConeRange:
 
     ``lowest`` is attained by a column of ``length_at_lowest`` (m) when that is finite;
     when it is infinite the lowest angle is only approached (n_thz >= n_group). ``highest``
-    (pi/2) is approached by vanishingly short columns.
+    (pi/2) is approached by vanishingly short columns. ``group_index`` is the driver's group
+    index the range was computed with.
     """
 
     lowest: float
     highest: float
     length_at_lowest: float
+    group_index: float
 
     def describe(self) -> str:
         lo = np.degrees(self.lowest)
@@ -166,7 +200,8 @@ class ConeRange:
         return f"{bracket}{lo:.6g}, {np.degrees(self.highest):.6g}) deg"
 
 
-def cone_range(freq, medium: Medium | None = None) -> ConeRange:
+def cone_range(freq, medium: Medium | None = None, *,
+               group_index: float | None = None) -> ConeRange:
     """The range of cone angles reachable by a uniform column at one frequency.
 
     Parameters
@@ -175,11 +210,14 @@ def cone_range(freq, medium: Medium | None = None) -> ConeRange:
         Frequency (Hz), > 0.
     medium : Medium, optional
         Defaults to vacuum.
+    group_index : float, optional
+        The driver's group index, 1 to 2; ``medium.n_group`` when None.
     """
-    medium = Medium.vacuum() if medium is None else medium
+    medium = driver_medium(medium, group_index)
     f = float(as_float_array("freq", freq, low=0.0, low_open=True, unit="Hz"))
     if medium.n_thz >= medium.n_group:
-        return ConeRange(float(np.arccos(medium.n_group / medium.n_thz)), np.pi / 2, np.inf)
+        return ConeRange(float(np.arccos(medium.n_group / medium.n_thz)), np.pi / 2, np.inf,
+                         medium.n_group)
     # The main lobe disappears at x_lo = a (n_g - n_T) = pi; the minimum cone is reached
     # before that, where a side lobe takes over. Scan in a, then refine.
     a_end = np.pi / medium.mismatch
@@ -192,7 +230,7 @@ def cone_range(freq, medium: Medium | None = None) -> ConeRange:
                           options={"xatol": 1e-12 * a_end})
     a_best = res.x if res.fun <= angles[i] else a_grid[i]
     lowest = float(min(res.fun, angles[i]))
-    return ConeRange(lowest, np.pi / 2, float(a_best * c / (np.pi * f)))
+    return ConeRange(lowest, np.pi / 2, float(a_best * c / (np.pi * f)), medium.n_group)
 
 
 def _one_minus_xcotx(x):
@@ -201,7 +239,8 @@ def _one_minus_xcotx(x):
     return np.where(small, x**2 / 3 + x**4 / 45, 1 - xs * np.cos(xs) / np.sin(xs))
 
 
-def length_for_cone(angle, freq, medium: Medium | None = None):
+def length_for_cone(angle, freq, medium: Medium | None = None, *,
+                    group_index: float | None = None):
     """Shortest uniform column length (m) whose cone angle is ``angle`` at ``freq``.
 
     Parameters
@@ -212,18 +251,21 @@ def length_for_cone(angle, freq, medium: Medium | None = None):
         Frequency (Hz), > 0; broadcast with ``angle``.
     medium : Medium, optional
         Defaults to vacuum.
+    group_index : float, optional
+        The driver's group index, 1 to 2; ``medium.n_group`` when None (module docstring).
 
     Returns
     -------
     ndarray
-        Length (m), shape ``np.broadcast_shapes(angle.shape, freq.shape)``.
+        Length (m), shape ``np.broadcast_shapes(angle.shape, freq.shape)``, for the group
+        index given, else ``medium.n_group``.
 
     Raises
     ------
     ValueError
         When an angle cannot be reached; the message gives the reachable range.
     """
-    medium = Medium.vacuum() if medium is None else medium
+    medium = driver_medium(medium, group_index)
     angle = as_float_array("angle", angle, low=0.0, high=np.pi, unit="rad")
     freq = as_float_array("freq", freq, low=0.0, low_open=True, unit="Hz")
     angle, freq = np.broadcast_arrays(angle, freq)
@@ -251,7 +293,7 @@ def length_for_cone(angle, freq, medium: Medium | None = None):
 
 
 def band_cone_angle(length, freq, spectral_weight=None, medium: Medium | None = None,
-                    plasma=None):
+                    plasma=None, *, group_index: float | None = None):
     """Cone angle (rad) of the band-integrated pattern of one uniform column.
 
     The pattern is :math:`P(\\theta) = \\int w(f)\\, d^2W/(df\\,d\\Omega)\\, df`, summed with
@@ -269,9 +311,16 @@ def band_cone_angle(length, freq, spectral_weight=None, medium: Medium | None = 
         Spectral weight (e.g. a detector's response), >= 0; default 1.
     medium : Medium, optional
     plasma : Plasma, optional
-        Includes the plasma's current spectrum in the weight.
+        Includes the plasma's current spectrum in the weight (driven at the group index used).
+    group_index : float, optional
+        The driver's group index, 1 to 2; ``medium.n_group`` when None (module docstring).
+
+    Returns
+    -------
+    float
+        The angle (rad) for the group index given, else ``medium.n_group``.
     """
-    medium = Medium.vacuum() if medium is None else medium
+    medium = driver_medium(medium, group_index)
     freq = check_band(freq, minimum=2)
     fil = Filament(length)
     spectral = band_weights(freq, spectral_weight)

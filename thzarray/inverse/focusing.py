@@ -5,6 +5,10 @@ one frequency; by root finding on :func:`thzarray.field.cone.band_cone_angle` fo
 the column model of :func:`thzarray.source.laser.plasma_from_laser`
 (:func:`~thzarray.source.laser.column_extent`) then gives, for each pulse energy, the lens
 that makes that column (the column length does not decrease with the focal length).
+
+The driver's group index that sets the cone is ``medium.n_group`` (linear air) unless
+``group_index`` is given, e.g. ``PlasmaEstimate.group_index`` with the plasma's share
+(:mod:`thzarray.field.cone`); the results record the one used.
 """
 
 from __future__ import annotations
@@ -16,10 +20,10 @@ from scipy.optimize import brentq
 
 from thzarray.air.medium import Medium
 from thzarray.base.checks import as_float_array, check_scalar
-from thzarray.field.cone import band_cone_angle, cone_angle, length_for_cone
+from thzarray.field.cone import band_cone_angle, cone_angle, driver_medium, length_for_cone
 from thzarray.source.laser import FilamentationModel, Pulse, column_extent
 
-__all__ = ["FocusingChart", "focusing_chart", "focusing_for_cone"]
+__all__ = ["ConeFocusing", "FocusingChart", "focusing_chart", "focusing_for_cone"]
 
 
 def _grid_length(focal_length, energy, pulse, model):
@@ -45,6 +49,8 @@ class FocusingChart:
         collapse threshold.
     cone_angle : ndarray, shape (F, E)
         Cone angle (rad) of the column at the band; NaN where there is no column.
+    group_index : float
+        The driver's group index the cone angles were computed with.
     """
 
     focal_length: np.ndarray
@@ -52,6 +58,32 @@ class FocusingChart:
     length: np.ndarray
     onset: np.ndarray
     cone_angle: np.ndarray
+    group_index: float
+
+
+@dataclass(frozen=True, eq=False)
+class ConeFocusing:
+    """The lens for a wanted cone at each pulse energy, and what it rests on.
+
+    Unpacks as ``focal_length, length = focusing_for_cone(...)``.
+
+    Attributes
+    ----------
+    focal_length : ndarray, shape (E,)
+        Lens focal length (m) per pulse energy; NaN where no focal length in the searched
+        range gives the column (or P/P_cr is too low).
+    length : float
+        The column length (m) that gives the cone.
+    group_index : float
+        The driver's group index the cone was computed with.
+    """
+
+    focal_length: np.ndarray
+    length: float
+    group_index: float
+
+    def __iter__(self):
+        return iter((self.focal_length, self.length))
 
 
 def _cone_of_length(length, freq, spectral_weight, medium):
@@ -71,7 +103,8 @@ def _check_pulse(pulse):
 
 def focusing_chart(focal_length, energy, freq, spectral_weight=None, *,
                    pulse: Pulse | None = None, model: FilamentationModel | None = None,
-                   medium: Medium | None = None) -> FocusingChart:
+                   medium: Medium | None = None,
+                   group_index: float | None = None) -> FocusingChart:
     """Data for a chart of cone angle versus focal length and pulse energy.
 
     Parameters
@@ -92,13 +125,15 @@ def focusing_chart(focal_length, energy, freq, spectral_weight=None, *,
     model : FilamentationModel, optional
     medium : Medium, optional
         Defaults to vacuum, as in :mod:`thzarray.field.cone`.
+    group_index : float, optional
+        The driver's group index, 1 to 2; ``medium.n_group`` when None.
 
     Returns
     -------
     FocusingChart
-        Arrays on the (focal_length, energy) grid.
+        Arrays on the (focal_length, energy) grid, and the group index used.
     """
-    medium = Medium.vacuum() if medium is None else medium
+    medium = driver_medium(medium, group_index)
     pulse = _check_pulse(pulse)
     f = as_float_array("focal_length", focal_length, low=0.0, low_open=True, high=1e4, unit="m")
     en = as_float_array("energy", energy, low=0.0, low_open=True, high=10.0, unit="J")
@@ -109,12 +144,13 @@ def focusing_chart(focal_length, energy, freq, spectral_weight=None, *,
     cone = np.full(length.shape, np.nan)
     for idx in zip(*np.nonzero(np.isfinite(length))):
         cone[idx] = _cone_of_length(length[idx], freq, spectral_weight, medium)
-    return FocusingChart(f, en, length, onset, cone)
+    return FocusingChart(f, en, length, onset, cone, medium.n_group)
 
 
 def focusing_for_cone(angle, energy, freq, spectral_weight=None, *,
                       pulse: Pulse | None = None, model: FilamentationModel | None = None,
-                      medium: Medium | None = None, focal_range=(0.05, 50.0)):
+                      medium: Medium | None = None, focal_range=(0.05, 50.0),
+                      group_index: float | None = None) -> ConeFocusing:
     """Lens focal length (m) that gives a wanted cone angle at each pulse energy.
 
     Parameters
@@ -123,19 +159,19 @@ def focusing_for_cone(angle, energy, freq, spectral_weight=None, *,
         Wanted cone angle (rad), 0 to pi/2.
     energy : array_like, shape (E,)
         Pulse energies (J).
-    freq, spectral_weight, pulse, model, medium
+    freq, spectral_weight, pulse, model, medium, group_index
         As for :func:`focusing_chart`.
     focal_range : (float, float)
         Focal lengths searched (m).
 
     Returns
     -------
-    focal_length : ndarray, shape (E,)
-        NaN where no focal length in ``focal_range`` gives the column (or P/P_cr is too low).
-    length : float
-        The column length (m) that gives the cone.
+    ConeFocusing
+        ``focal_length`` (shape (E,); NaN where no focal length in ``focal_range`` gives the
+        column or P/P_cr is too low), the column ``length`` (m) and the ``group_index``
+        used; unpacks as ``focal_length, length``.
     """
-    medium = Medium.vacuum() if medium is None else medium
+    medium = driver_medium(medium, group_index)
     pulse = _check_pulse(pulse)
     angle = check_scalar("angle", angle, low=0.0, low_open=True, high=np.pi / 2, unit="rad")
     en = as_float_array("energy", energy, low=0.0, low_open=True, high=10.0, unit="J")
@@ -153,7 +189,7 @@ def focusing_for_cone(angle, energy, freq, spectral_weight=None, *,
         lo, hi = gap(f_lo), gap(f_hi)
         if np.isfinite(lo) and np.isfinite(hi) and lo * hi <= 0:
             out[i] = brentq(gap, f_lo, f_hi, xtol=1e-12, rtol=1e-12)
-    return out, target
+    return ConeFocusing(out, target, medium.n_group)
 
 
 def _band_length_for_cone(angle, freq, spectral_weight, medium):

@@ -71,7 +71,14 @@ class FitResult:
         Whether the data constrain each fitted parameter.
     messages : tuple of str
         Why a parameter is not constrained and what to do, then notes (starting "note:")
-        on pairs correlated beyond +-0.999; empty when all is well.
+        on pairs correlated beyond +-0.999 and on what the fit assumed; empty when all is
+        well.
+    assumptions : dict
+        What the model assumed that the data do not fit, in words by name (e.g. the source
+        and detector spectra of a band).
+    predicted : dict
+        Independent predictions of fitted parameters to compare with ``params`` (e.g. the
+        mismatch of linear air and with the plasma's share), by name.
     """
 
     kind: str
@@ -92,6 +99,8 @@ class FitResult:
     constrained: dict
     messages: tuple
     _evaluate: object = field(default=None, repr=False, compare=False)
+    assumptions: dict = field(default_factory=dict)
+    predicted: dict = field(default_factory=dict)
 
     @property
     def ok(self) -> bool:
@@ -182,11 +191,13 @@ def _diagnose(jac, names, values, errors, corr, own_scale, units):
 
 
 def solve(kind, problem: Problem, model, data, sigma, fixed, x, evaluate, own_scale, strict,
-          search=None, units=None):
+          search=None, units=None, *, notes=(), assumptions=None, predicted=None):
     """Run least_squares on scaled variables and build the FitResult.
 
     ``search = (search_model, factor, i)``: the same curves with parameter i multiplied by
     ``factor(p)``; the iterations use it (cheaper), the final point and errors ``model``.
+    ``notes`` (strings starting "note:") are appended to the messages; ``assumptions`` and
+    ``predicted`` are stored on the result as given.
     """
     # Without sigma the residuals are weighted by one over the data's size: the solver's
     # tolerances then do not depend on the signal's unit (the covariance below is
@@ -235,8 +246,10 @@ def solve(kind, problem: Problem, model, data, sigma, fixed, x, evaluate, own_sc
     if strict and not all(constrained.values()):
         raise ValueError("; ".join(m for m in messages if not m.startswith("note:")))
     return FitResult(kind, problem.names, values, errors, dict(fixed), corr, cov, x, data, best,
-                     resid, sigma, chi2, dof, sigma is None, constrained, messages,
-                     lambda xx, **extra: evaluate(values, xx, **extra))
+                     resid, sigma, chi2, dof, sigma is None, constrained,
+                     messages + tuple(notes),
+                     lambda xx, **extra: evaluate(values, xx, **extra),
+                     dict(assumptions or {}), dict(predicted or {}))
 
 
 def _minimise(residual, u0, lo, hi):

@@ -13,8 +13,8 @@ The model signal is
 .. math:: S(\theta) = A\,\frac{P(\theta)}{P_{ff}(\theta_c)} + B,\qquad
           P(\theta) = \sum_j w_j\,|\hat p\cdot\mathbf F(f_j, \theta)|^2,
 
-with band weights :math:`w_j` (the trapezoid rule of :mod:`thzarray.base.band` times
-an optional spectral weight, normalised to sum 1), :math:`\hat p` the detector's
+with band weights :math:`w_j` (normalised to sum 1, see "Spectra" below), :math:`\hat p` the
+detector's
 polarization (all components when ``polarization`` is None), :math:`\mathbf F` the far-field
 radiation vector of :func:`~thzarray.field.farfield.far_field` or, when ``distance`` is given,
 :math:`R\,\mathbf E` from :func:`~thzarray.field.nearfield.field_at` at the point
@@ -29,6 +29,34 @@ frequency in the far field, close to it otherwise. Parameters:
 - ``start`` (m): where the column starts on the axis; only with ``distance``, because one
   column's far-field pattern does not depend on it;
 - ``amplitude``, ``background``: in the units of the signal.
+
+Spectra: what the band sum assumes about the source and the detector
+--------------------------------------------------------------------
+:math:`\mathbf F` is the field per unit current spectrum, and the radiation integral
+carries the factor :math:`i\omega\mu_0/4\pi` (Jackson, secs. 9.1-9.2): at the peak of
+its cone a uniform column's :math:`|\mathbf F|^2 = (\omega\mu_0 L/4\pi)^2
+\sin^2\theta_c\,\mathrm{sinc}^2 x_c` grows with frequency. The band weights are
+
+.. math:: w_j \propto \Delta f_j\, R(f_j)\, S(f_j),
+
+with :math:`\Delta f_j` the trapezoid weights (:mod:`thzarray.base.band`), :math:`R` the
+detector's power response (``detector_response``) and :math:`S = |I(f)|^2` the power
+spectrum of the column's *current* (``source_spectrum``; a
+:class:`~thzarray.source.plasma.Plasma` gives its own). Both default to flat: a flat
+current spectrum, whose radiated field then grows as f, seen by a flat detector. A source
+whose radiated field spectrum :math:`|\omega I|^2` is flat has :math:`S \propto f^{-2}`.
+The fitted length depends on these spectra (high frequencies make narrower cones), so the
+result says which it used (``FitResult.assumptions``) and adds a note when a band was fitted
+with either left at its default. With one frequency the spectra cancel.
+
+The mismatch next to its predictions
+------------------------------------
+``FitResult.predicted`` holds ``mismatch_linear_air`` = ``medium.n_group - medium.n_thz``
+(Ciddor's group index of linear air) and, when ``electron_density`` is given,
+``mismatch_with_plasma``, which adds the plasma's share :math:`n_e/(2n_c)` of the optical
+group index (:func:`~thzarray.source.plasma.plasma_group_index_shift`, at the medium's laser
+wavelength, 800 nm when it has none). A fitted mismatch well above the first points to the
+driver's own plasma (or the Kerr effect and refocusing, which are not modelled).
 
 Delay scan of two columns (:func:`fit_delay_scan`)
 --------------------------------------------------
@@ -63,6 +91,7 @@ from thzarray.field.farfield import far_field
 from thzarray.field.nearfield import field_at
 from thzarray.inverse.leastsq import FitResult, check_data, parameters, solve
 from thzarray.source.filament import Filament
+from thzarray.source.plasma import Plasma, plasma_group_index_shift
 
 __all__ = ["UNITS", "fit_delay_scan", "fit_scan"]
 
@@ -74,20 +103,62 @@ _MISMATCH_SCALE = 1e-4
 _MISMATCH_MAX = 1e-2
 
 
-def _band(freq, spectral_weight):
-    """Band samples (Hz) and their trapezoid weights times the spectral weight, summing to 1.
+def _spectrum(name, value, freq, medium):
+    """|I|^2 or R at the band's frequencies (array, >= 0) and its description."""
+    if value is None:
+        what = "current spectrum" if name == "source_spectrum" else "detector response"
+        return np.ones(freq.shape), f"flat {what} (assumed: not given)"
+    if isinstance(value, Plasma):
+        power = np.abs(value.current_spectrum(freq, medium.n_group)) ** 2
+        return power, (f"|I(f)|^2 of the given Plasma (n_e = {value.electron_density:.3g} "
+                       f"m^-3, collision rate {value.collision_rate:.3g} 1/s)")
+    arr = as_float_array(name, value, low=0.0)
+    if arr.shape != freq.shape:
+        raise ValueError(f"{name} has shape {arr.shape}; allowed: one value per frequency, "
+                         f"shape {freq.shape}" + (", or a Plasma" if name == "source_spectrum"
+                                                  else ""))
+    return arr, f"given at the {freq.size} band frequencies"
 
-    The package's one band quadrature (:func:`thzarray.base.band.band_weights`); the
-    normalisation cancels in the model (the amplitude absorbs it).
+
+def _band(freq, source_spectrum, detector_response, medium):
+    """Band samples (Hz), weights summing to 1 and what the weights assume (module docstring).
+
+    The package's one band quadrature (:func:`thzarray.base.band.band_weights`) times the
+    detector response and the current's power spectrum; the normalisation cancels in the
+    model (the amplitude absorbs it).
     """
     freq = np.atleast_1d(as_float_array("freq", freq, low=0.0, low_open=True, unit="Hz"))
     if freq.ndim != 1:
         raise ValueError(f"freq has shape {freq.shape}; allowed: one frequency or a 1-D band")
-    wts = band_weights(freq, spectral_weight)
+    source, source_text = _spectrum("source_spectrum", source_spectrum, freq, medium)
+    detector, detector_text = _spectrum("detector_response", detector_response, freq, medium)
+    wts = band_weights(freq, source * detector)
     if not wts.sum() > 0:
-        raise ValueError("spectral_weight = all zero; allowed: non-negative weights, not all "
-                         "zero")
-    return freq, wts / wts.sum()
+        raise ValueError("source_spectrum * detector_response = all zero over the band; "
+                         "allowed: non-negative values, not all zero")
+    if freq.size == 1:
+        assumed = dict(source_spectrum="one frequency: the spectra do not enter",
+                       detector_response="one frequency: the spectra do not enter")
+        notes = ()
+    else:
+        assumed = dict(source_spectrum=source_text, detector_response=detector_text)
+        defaulted = [n for n, v in (("source_spectrum", source_spectrum),
+                                    ("detector_response", detector_response)) if v is None]
+        notes = (() if not defaulted else
+                 (f"note: {' and '.join(defaulted)} not given: assumed flat over the band "
+                  "(a flat current spectrum radiates a field growing with f); the fitted "
+                  "parameters depend on them: declare them",))
+    return freq, wts / wts.sum(), assumed, notes
+
+
+def _predicted_mismatch(medium, electron_density):
+    """The mismatch of linear air and, with an electron density, with the plasma's share."""
+    out = {"mismatch_linear_air": medium.mismatch}
+    if electron_density is not None:
+        wavelength = medium.laser_wavelength or 800e-9
+        out["mismatch_with_plasma"] = medium.mismatch + float(
+            plasma_group_index_shift(electron_density, wavelength))
+    return out
 
 
 def _scan_power(values, theta, freq, wts, medium, pol, distance, reference=True):
@@ -132,6 +203,23 @@ def _band_power(vec, wts, pol):
     return np.tensordot(wts, power, axes=(0, 0))
 
 
+def _band_guess_length(theta, signal, freq, wts, medium, pol, distance, length0):
+    """Refine a single-frequency length guess for a band: the length on a grid from
+    length0 / 4 to 4 length0 whose band pattern (medium's mismatch, amplitude and background
+    solved linearly) best matches the scan. A band's cone is not the cone at its mean
+    frequency, and a poor start can leave the fit in a side minimum."""
+    best, best_cost = length0, np.inf
+    design = np.ones((theta.size, 2))
+    for length in np.geomspace(length0 / 4, 4 * length0, 49):
+        values = dict(length=length, mismatch=medium.mismatch, start=0.0)
+        design[:, 0] = _scan_power(values, theta, freq, wts, medium, pol, distance, False)[0]
+        coef, *_ = np.linalg.lstsq(design, signal, rcond=None)
+        cost = float(np.sum((design @ coef - signal) ** 2))
+        if coef[0] > 0 and cost < best_cost:
+            best, best_cost = length, cost
+    return float(best)
+
+
 def _guess_length(theta, signal, f_mean, medium):
     """Column length whose cone sits at the angle of the largest signal."""
     i = int(np.argmax(signal))
@@ -144,9 +232,8 @@ def _guess_length(theta, signal, f_mean, medium):
 
 
 def fit_scan(angle, signal, freq, distance=None, sigma=None, polarization=None, *,
-             spectral_weight=None, medium: Medium | None = None, fixed=None,
-             initial=None,
-             strict=False) -> FitResult:
+             source_spectrum=None, detector_response=None, medium: Medium | None = None,
+             electron_density=None, fixed=None, initial=None, strict=False) -> FitResult:
     """Fit one column's model to an angular scan of a THz signal.
 
     Parameters
@@ -165,12 +252,19 @@ def fit_scan(angle, signal, freq, distance=None, sigma=None, polarization=None, 
         chi2/dof.
     polarization : 3-sequence of float, optional
         Direction the detector is sensitive to (normalised); all components by default.
-    spectral_weight : array_like, shape (B,), optional
-        Spectral weight over the band (e.g. the detector response times the source
-        spectrum); 1 by default. The band sum is the package's trapezoid rule.
+    source_spectrum : array_like, shape (B,), or Plasma, optional
+        Power spectrum |I(f)|^2 of the column's current at the band's frequencies (any
+        scale, >= 0), or a :class:`~thzarray.source.plasma.Plasma` whose current spectrum
+        to use; flat by default (see "Spectra" in the module docstring).
+    detector_response : array_like, shape (B,), optional
+        The detector's power response at the band's frequencies (any scale, >= 0); flat by
+        default.
     medium : Medium, optional
         Sets n_thz and the starting mismatch; :meth:`Medium.air` (dry standard air) by
         default.
+    electron_density : float, optional
+        Electron density of the column (m^-3), e.g. ``PlasmaEstimate.electron_density``:
+        adds ``mismatch_with_plasma`` to ``FitResult.predicted``.
     fixed : dict, optional
         Parameters held at given values (SI), e.g. ``{"mismatch": 1e-5}``.
     initial : dict, optional
@@ -184,7 +278,9 @@ def fit_scan(angle, signal, freq, distance=None, sigma=None, polarization=None, 
     -------
     FitResult
         ``params`` has ``length``, ``mismatch``, ``amplitude``, ``background`` and, with
-        ``distance``, ``start`` (those not in ``fixed``).
+        ``distance``, ``start`` (those not in ``fixed``); ``assumptions`` the source and
+        detector spectra used; ``predicted`` the mismatch of linear air (and with the
+        plasma's share).
 
     Notes
     -----
@@ -194,7 +290,8 @@ def fit_scan(angle, signal, freq, distance=None, sigma=None, polarization=None, 
     theta = as_float_array("angle", angle, low=0.0, high=np.pi, unit="rad")
     if theta.ndim != 1:
         raise ValueError(f"angle has shape {theta.shape}; allowed: a 1-D array")
-    freq, wts = _band(freq, spectral_weight)
+    freq, wts, assumed, notes = _band(freq, source_spectrum, detector_response, medium)
+    predicted = _predicted_mismatch(medium, electron_density)
     if distance is not None:
         distance = check_scalar("distance", distance, low=0.0, low_open=True, unit="m")
     pol = None if polarization is None else unit_vector("polarization", polarization)
@@ -202,6 +299,9 @@ def fit_scan(angle, signal, freq, distance=None, sigma=None, polarization=None, 
     f_mean = float(np.sum(wts * freq))
     length0 = (_guess_length(theta, signal_arr, f_mean, medium)
                if signal_arr.shape == theta.shape else 1.0)
+    if freq.size > 1 and signal_arr.shape == theta.shape and np.all(np.isfinite(signal_arr)):
+        length0 = _band_guess_length(theta, signal_arr, freq, wts, medium, pol, distance,
+                                     length0)
     background0 = float(np.min(signal_arr))
     amplitude0 = max(float(np.max(signal_arr)) - background0, np.finfo(float).tiny)
     allowed = ("length", "start", "mismatch", "amplitude", "background")
@@ -249,12 +349,12 @@ def fit_scan(angle, signal, freq, distance=None, sigma=None, polarization=None, 
         search = (search_model, factor, problem.names.index("amplitude"))
     kind = "far-field scan" if distance is None else "finite-distance scan"
     return solve(kind, problem, model, signal_arr, sigma, fixed, theta, evaluate, own_scale,
-                  strict, search, UNITS)
+                 strict, search, UNITS, notes=notes, assumptions=assumed, predicted=predicted)
 
 
-def fit_delay_scan(delay, angle, signal, freq, length, *, spectral_weight=None, sigma=None,
-                   medium: Medium | None = None, fixed=None, initial=None,
-                   strict=False) -> FitResult:
+def fit_delay_scan(delay, angle, signal, freq, length, *, source_spectrum=None,
+                   detector_response=None, sigma=None, medium: Medium | None = None,
+                   fixed=None, initial=None, strict=False) -> FitResult:
     """Fit the spacing and timing offset of two parallel columns to delay scans.
 
     Parameters
@@ -270,14 +370,15 @@ def fit_delay_scan(delay, angle, signal, freq, length, *, spectral_weight=None, 
         Detection frequency or band (Hz); a band makes the fringe order unambiguous.
     length : float
         Length of each column (m), e.g. from :func:`fit_scan`.
-    spectral_weight, sigma, medium, fixed, initial, strict
+    source_spectrum, detector_response, sigma, medium, fixed, initial, strict
         As for :func:`fit_scan`.
 
     Returns
     -------
     FitResult
         ``params`` has ``spacing`` (m, along +x), ``timing_offset`` (s), ``amplitude`` and
-        ``background``; ``x`` is the delay. ``evaluate(delay, angle=...)`` gives the model.
+        ``background``; ``x`` is the delay. ``evaluate(delay, angle=...)`` gives the model;
+        ``assumptions`` the spectra used.
 
     Notes
     -----
@@ -289,7 +390,7 @@ def fit_delay_scan(delay, angle, signal, freq, length, *, spectral_weight=None, 
     if tau.ndim != 1 or theta.shape != tau.shape:
         raise ValueError(f"delay, angle have shapes {tau.shape}, {theta.shape}; allowed: 1-D "
                          "arrays of equal shape")
-    freq, wts = _band(freq, spectral_weight)
+    freq, wts, assumed, notes = _band(freq, source_spectrum, detector_response, medium)
     length = check_scalar("length", length, low=1e-6, high=1e3, unit="m")
     signal_arr = as_float_array("signal", signal)
     f_mean = float(np.sum(wts * freq))
@@ -335,7 +436,7 @@ def fit_delay_scan(delay, angle, signal, freq, length, *, spectral_weight=None, 
                     background=abs((vals | fixed_values)["amplitude"]))
 
     return solve("delay scan", problem, model, signal_arr, sigma, fixed, tau, evaluate,
-                 own_scale, strict, units=UNITS)
+                 own_scale, strict, units=UNITS, notes=notes, assumptions=assumed)
 
 
 def _guess_spacing(tau, theta, signal, medium, spacing=None):

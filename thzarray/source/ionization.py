@@ -1,20 +1,36 @@
 r"""Free electrons left by the pulse: multiphoton ionization of O2 at the clamped intensity.
 
-Electron density from the clamped intensity (about 5e13 W/cm^2 at 800 nm in air: common
-practice, no source), by eight-photon ionization of O2 (ionization energy 12.07 eV, 8 x
-1.55 eV photons) with the rate :math:`W = \sigma_8 I^8`,
-:math:`\sigma_8 = 3.3\times10^{-130}\ \mathrm{W^{-8}\,m^{16}\,s^{-1}}` measured by
-A. Sharma et al., Sci. Rep. 8, 2874 (2018), integrated over a Gaussian pulse:
+Electron density from the clamped intensity by eight-photon ionization of O2 (ionization
+energy 12.07 eV, 8 x 1.55 eV photons) with the rate :math:`W = \sigma_8 I^8`, integrated
+over a Gaussian pulse:
 
 .. math:: n_e = n_{O_2}\left[1 - \exp\left(-\sigma_8 I^8 \tau\sqrt{\pi/8}\right)\right],
           \qquad I(t) = I e^{-t^2/\tau^2}.
 
-The Keldysh parameter at the clamped intensity is about 1.4, between the multiphoton
-and tunnelling limits, where a power law is only an estimate, and n_e grows as I^8 (10 %
-on the clamped intensity is a factor 2.1 on n_e): take n_e as good to an order of
-magnitude. The defaults give about 1.3e17 cm^-3 (2.4 % of the O2 ionized), at the upper
-end of the 1e15 to 1e17 cm^-3 usually quoted (common practice, no source). Nitrogen
-(15.58 eV, 11 photons) contributes far less and is left out.
+Constants, with their published spread (sources in :mod:`thzarray.source.constants`):
+
+======================  ===========  ===========  ===========  ==========================
+constant                low          nominal      high         unit
+======================  ===========  ===========  ===========  ==========================
+sigma_8 (O2, 800 nm)    2.88e-131    3.3e-130     3.6e-130     W^-8 m^16 s^-1
+clamped intensity       4e17         5e17         1e18         W/m^2 (x 1e-4: W/cm^2)
+======================  ===========  ===========  ===========  ==========================
+
+The nominal sigma_8 is the absolute measurement of A. Sharma et al., Sci. Rep. 8, 2874
+(2018), (3.3 +- 0.3)e-130 (verified in its abstract); the low one is the value commonly
+quoted from A. Couairon and A. Mysyrowicz, Phys. Rep. 441, 47 (2007), 2.88e-99
+cm^16 W^-8 s^-1 (from memory), 11.5 times smaller. The clamped intensity (about 5e13
+W/cm^2 at 800 nm: common practice, no source) is uncertain to tens of per cent, and n_e
+grows as I^8: 10 % on the intensity is a factor 2.1 on n_e, and the low end alone is a
+factor 6 down. The Keldysh parameter at the clamped intensity is about 1.4, between the
+multiphoton and tunnelling limits, where a power law is only an estimate. Take n_e as
+good to an order of magnitude at best: the nominal constants give about 1.3e17 cm^-3 (2.4 %
+of the O2 ionized), at the upper end of the 1e15 to 1e17 cm^-3 usually quoted (common
+practice, no source); the low cross-section gives 11.5 times less. A cross-check that
+does not use sigma_8: at clamping the Kerr and plasma index changes balance,
+:math:`n_2 I \approx n_e/(2 n_c)`, i.e. n_e of about 5.6e22 m^-3 with the nominal n2 and
+intensity (common practice, no source). Nitrogen (15.58 eV, 11 photons) contributes far
+less and is left out.
 """
 
 from __future__ import annotations
@@ -24,6 +40,7 @@ from scipy.constants import c, e, electron_volt, epsilon_0, m_e
 from scipy.constants import k as k_boltzmann
 
 from thzarray.base.checks import as_float_array, check_scalar
+from thzarray.source.constants import PUBLISHED
 from thzarray.source.plasma import fwhm_to_gaussian_tau
 
 __all__ = [
@@ -31,20 +48,22 @@ __all__ = [
     "CLAMPED_INTENSITY",
     "O2_FRACTION",
     "O2_PHOTONS",
+    "O2_SIGMA_8",
     "electron_density",
     "keldysh_parameter",
     "ponderomotive_energy",
 ]
 
-CLAMPED_INTENSITY = 5e17
-"""Clamped intensity in an air filament at 800 nm (W/m^2); common practice, no source."""
+CLAMPED_INTENSITY = PUBLISHED["clamped_intensity"].nominal
+"""Clamped intensity in an air filament at 800 nm (W/m^2), 5e17; common practice, no source
+(published spread 4e17 to 1e18, :mod:`thzarray.source.constants`)."""
 O2_IONIZATION_ENERGY = 12.07 * electron_volt
 """Ionization energy of O2 (J); NIST: 12.0697 eV."""
 O2_PHOTONS = 8
 """Photons of 800 nm (1.55 eV) needed to ionize O2."""
-O2_SIGMA_8 = 3.3e-130
-"""Eight-photon cross-section of O2 at 800 nm (W^-8 m^16 s^-1), Sharma et al., Sci. Rep. 8,
-2874 (2018)."""
+O2_SIGMA_8 = PUBLISHED["o2_cross_section"].nominal
+"""Eight-photon cross-section of O2 at 800 nm (W^-8 m^16 s^-1), 3.3e-130: Sharma et al., Sci.
+Rep. 8, 2874 (2018) (published spread 2.88e-131 to 3.6e-130, :mod:`thzarray.source.constants`)."""
 O2_FRACTION = 0.2095
 """Mole fraction of O2 in dry air."""
 AIR_DENSITY = 101325.0 / (k_boltzmann * 288.15)
