@@ -15,6 +15,13 @@ weights: for a
 :math:`\hat p` and its plane-wave effective area (A, or :math:`2\pi w_0^2` for a Gaussian
 beam); for a :class:`~thzarray.detectors.BroadbandDetector` facing the source, its
 response times trapezoid weights, area A and the full transverse field.
+
+A receiver with noise settings (``nep``, ``integration_time``, ``repetition_rate``) also gets
+its signal-to-noise ratio :math:`\mathrm{SNR} = W f_{rep}\sqrt{2t_{int}}/\mathrm{NEP}`
+(:mod:`thzarray.detect.noise`) and the range where it falls to 1, the root of
+:math:`\mathrm{SNR}(R) = 1` (W decreases monotonically with R; Brent's method in log R).
+Above 1 THz a HITRAN-format line list (``lines``) supplies the absorption
+(:func:`thzarray.air.refractivity.complex_index`); without it the budget uses P.676 alone.
 """
 
 from __future__ import annotations
@@ -23,9 +30,12 @@ from dataclasses import dataclass
 
 import numpy as np
 from scipy.constants import c, epsilon_0
+from scipy.optimize import brentq
 
 from thzarray.air.absorption import attenuation_coefficient
+from thzarray.air.hitran import LineList
 from thzarray.air.medium import Medium
+from thzarray.air.refractivity import complex_index
 from thzarray.base.band import band_weights, check_band, passband_weights
 from thzarray.base.checks import as_float_array, check_scalar
 from thzarray.detect.receivers import BroadbandDetector, NarrowbandReceiver
@@ -56,6 +66,10 @@ class RangeBudget:
         The same without gaseous absorption (spreading, aperture and band only).
     attenuation : ndarray, shape (H, F)
         Power attenuation coefficient alpha (1/m) at each humidity and frequency.
+    snr : ndarray, shape (H, D), or None
+        Signal-to-noise ratio, when the receiver has noise settings.
+    unit_snr_range : ndarray, shape (H,), or None
+        Range (m) at which the SNR falls to 1 (inf when it stays above 1 to 1e9 m).
     """
 
     distance: np.ndarray
@@ -66,6 +80,8 @@ class RangeBudget:
     energy: np.ndarray
     free_space_energy: np.ndarray
     attenuation: np.ndarray
+    snr: np.ndarray | None = None
+    unit_snr_range: np.ndarray | None = None
 
     @property
     def absorption_db(self) -> np.ndarray:
@@ -86,9 +102,29 @@ def _receiver_weights(receiver, freq, ff):
                      "BroadbandDetector")
 
 
+def _unit_snr_range(per_freq, alpha, scale):
+    """Root of scale * sum(per_freq exp(-alpha R)) / R^2 = 1 in log R (m)."""
+    def log_snr(log_r):
+        r = np.exp(log_r)
+        return np.log(scale * np.sum(per_freq * np.exp(-alpha * r)) / r**2 + 1e-300)
+
+    lo, hi = np.log(1e-6), np.log(1e9)
+    if log_snr(hi) >= 0:
+        return np.inf
+    if log_snr(lo) <= 0:
+        return 0.0
+    return float(np.exp(brentq(log_snr, lo, hi, xtol=1e-12, rtol=1e-12)))
+
+
+def _alpha(freq, medium, lines):
+    if lines is None:
+        return attenuation_coefficient(freq, medium)
+    return 4 * np.pi * freq * complex_index(freq, medium, lines).imag / c
+
+
 def range_budget(filaments, receiver, freq, distance, theta, phi=0.0,
                  medium: Medium | None = None, relative_humidity=None,
-                 plasma: Plasma | None = None) -> RangeBudget:
+                 plasma: Plasma | None = None, lines: LineList | None = None) -> RangeBudget:
     """Energy into a receiver versus range and humidity (far field + P.676 absorption).
 
     Parameters
@@ -110,6 +146,8 @@ def range_budget(filaments, receiver, freq, distance, theta, phi=0.0,
         medium's air; default the medium's own.
     plasma : Plasma, optional
         Absolute current spectrum; without it energies are per (A s)^2.
+    lines : LineList, optional
+        A HITRAN-format line list for the absorption above 1 THz.
 
     Returns
     -------
@@ -136,11 +174,17 @@ def range_budget(filaments, receiver, freq, distance, theta, phi=0.0,
     energy = np.empty((rh.size, dist.size))
     free = np.empty((rh.size, dist.size))
     alpha = np.empty((rh.size, f.size))
+    per = []
     for i, med in enumerate(media):
         ff = far_field(fils, f, th, ph, med, plasma)
         per_freq = 2 * med.n_thz * epsilon_0 * c * _receiver_weights(receiver, f, ff)
-        alpha[i] = attenuation_coefficient(f, med)
+        per.append(per_freq)
+        alpha[i] = _alpha(f, med, lines)
         loss = np.exp(-alpha[i][None, :] * dist[:, None])
         free[i] = per_freq.sum() / dist**2
         energy[i] = (loss * per_freq[None, :]).sum(axis=1) / dist**2
-    return RangeBudget(dist, rh, f, th, ph, energy, free, alpha)
+    if receiver.nep is None:
+        return RangeBudget(dist, rh, f, th, ph, energy, free, alpha)
+    scale = float(receiver.signal_to_noise(1.0))
+    reach = np.array([_unit_snr_range(p, a, scale) for p, a in zip(per, alpha)])
+    return RangeBudget(dist, rh, f, th, ph, energy, free, alpha, scale * energy, reach)
