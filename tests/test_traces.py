@@ -47,10 +47,10 @@ def test_spectrum_is_far_field_over_range_times_line_transmission(records):
 
 
 def test_ringing_grows_with_humidity_and_range(records):
-    """Energy later than 15 ps (the main pulse lasts 3.2 ps from tau = 0): dry air (oxygen lines only, weak below 1 THz)
-    keeps it below 1e-4; humid air rings (free induction decay of the water lines, causal:
-    after the pulse), more at 80 % than at 30 %, and more at 30 m than at 10 m. The EO trace
-    shows the same."""
+    """Energy later than 15 ps (the main pulse lasts 3.2 ps from tau = 0): dry air (oxygen
+    lines only, weak below 1 THz) keeps it below 1e-4; humid air rings (free induction decay
+    of the water lines, causal: after the pulse), more at 80 % than at 30 %, and more at
+    30 m than at 10 m. The EO trace shows the same."""
     late = {rh: ringing_fraction(rw.time, rw.field, AFTER) for rh, rw in records.items()}
     eo = {rh: ringing_fraction(rw.time, rw.eo_trace, AFTER) for rh, rw in records.items()}
     assert np.all(late[0.0] < 1e-4)
