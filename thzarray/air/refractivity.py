@@ -73,8 +73,6 @@ _KELVIN = 273.15
 
 def _h_quad(x: float) -> float:
     """h(x) by quadrature, the pole's singular part subtracted on [0, 2x] (its PV is 0)."""
-    a = 1.0 / ((1 + x**1.5) * 2 * x)
-
     def g(t):
         return 1.0 / ((1 + t**1.5) * (t * t - x * x))
 
@@ -89,7 +87,6 @@ def _h_quad(x: float) -> float:
         warnings.simplefilter("ignore", integrate.IntegrationWarning)
         total = (integrate.quad(smooth, 0.0, 2 * x, points=[x], **opts)[0]
                  + integrate.quad(g, 2 * x, np.inf, **opts)[0])
-    del a
     return 2 * x * x / np.pi * total
 
 
@@ -157,6 +154,12 @@ def _user_lines(air, line_list: LineList | None) -> Lines | None:
     return hitran_lines(chosen, air)
 
 
+def _all_lines(air, line_list: LineList | None) -> Lines:
+    lines = _p676_lines(air, line_list)
+    extra = _user_lines(air, line_list)
+    return lines if extra is None else lines.join(extra)
+
+
 def _coverage(line_list: LineList | None) -> float:
     if line_list is None:
         return P676_COVERAGE
@@ -214,11 +217,7 @@ def complex_index(freq, medium, lines: LineList | None = None, *,
         warnings.warn(f"freq up to {f.max():.4g} Hz exceeds the {top:.4g} Hz that the loaded "
                       "lines cover; absorption and dispersion of lines above are missing",
                       UserWarning, stacklevel=2)
-    all_lines = _p676_lines(air, lines)
-    extra = _user_lines(air, lines)
-    if extra is not None:
-        all_lines = all_lines.join(extra)
-    dn = line_index(f, all_lines, memory_budget=memory_budget)
+    dn = line_index(f, _all_lines(air, lines), memory_budget=memory_budget)
     dn += 1e-6 * P676_SCALE * _continuum(f / 1e9, air)
     return medium.n_thz + dn
 
@@ -240,10 +239,7 @@ def high_frequency_index(medium, lines: LineList | None = None) -> float:
     air = air_conditions(medium)
     if air is None:
         return 1.0
-    all_lines = _p676_lines(air, lines)
-    extra = _user_lines(air, lines)
-    if extra is not None:
-        all_lines = all_lines.join(extra)
+    all_lines = _all_lines(air, lines)
     theta = 300.0 / (air.temperature_c + _KELVIN)
     s0, _, b = dry_continuum_parameters(air.dry_pressure / 100.0, air.vapour_pressure / 100.0,
                                         theta)
