@@ -68,9 +68,12 @@ __all__ = [
     "attenuate",
     "attenuation_coefficient",
     "db_per_km_to_per_m",
+    "dry_continuum_parameters",
     "line_tables",
     "oxygen_attenuation",
+    "oxygen_line_parameters",
     "water_vapour_attenuation",
+    "water_line_parameters",
 ]
 
 P676_EDITION = "ITU-R P.676-12 (08/2019), Annex 1, Tables 1 and 2"
@@ -153,6 +156,57 @@ def _conditions(freq, medium):
     return f, air.dry_pressure / 100.0, air.vapour_pressure / 100.0, theta
 
 
+def oxygen_line_parameters(p, e, theta):
+    """Oxygen line centres, strengths, widths and interference factors of P.676 Table 1.
+
+    Parameters
+    ----------
+    p, e : float
+        Dry-air and water-vapour pressure (hPa, as the Recommendation writes them).
+    theta : float
+        300 / T (T in K).
+
+    Returns
+    -------
+    (f0, S, width, delta) : tuple of ndarray, shape (44,)
+        Centre (GHz), strength S_i (N'' = S_i F_i with F_i in 1/GHz), width (GHz) and
+        the dimensionless interference factor of eqs. (3), (6a), (6b), (7).
+    """
+    f0, a1, a2, a3, a4, a5, a6 = _load_table("oxygen").T
+    strength = a1 * 1e-7 * p * theta**3 * np.exp(a2 * (1 - theta))
+    width = a3 * 1e-4 * (p * theta ** (0.8 - a4) + 1.1 * e * theta)
+    width = np.sqrt(width**2 + 2.25e-6)
+    shift = (a5 + a6 * theta) * 1e-4 * (p + e) * theta**0.8
+    return f0, strength, width, shift
+
+
+def water_line_parameters(p, e, theta):
+    """Water-vapour line centres, strengths and widths of P.676 Table 2 (no interference).
+
+    Same arguments as :func:`oxygen_line_parameters`; returns arrays of shape (35,), the
+    last one the 1780 GHz continuum pseudo-line (eqs. (3), (6a), (6b)).
+    """
+    f0, b1, b2, b3, b4, b5, b6 = _load_table("water_vapour").T
+    strength = b1 * 1e-1 * e * theta**3.5 * np.exp(b2 * (1 - theta))
+    width0 = b3 * 1e-4 * (p * theta**b4 + b5 * e * theta**b6)
+    width = 0.535 * width0 + np.sqrt(0.217 * width0**2 + 2.1316e-12 * f0**2 / theta)
+    return f0, strength, width, np.zeros_like(f0)
+
+
+def dry_continuum_parameters(p, e, theta):
+    """Strengths of the dry continuum, eq. (8): the oxygen Debye term and the nitrogen term.
+
+    Returns
+    -------
+    (S0, d, B) : tuple of float
+        ``S0 = 6.14e-5 p theta^2``, the Debye width ``d = 5.6e-4 (p + e) theta^0.8`` (GHz)
+        and ``B = 1.4e-12 p^2 theta^3.5``, so that
+        :math:`N''_D = S_0 \frac{f/d}{1 + (f/d)^2} + \frac{B f}{1 + 1.9\times10^{-5} f^{1.5}}`.
+    """
+    d = 5.6e-4 * (p + e) * theta**0.8
+    return 6.14e-5 * p * theta**2, d, 1.4e-12 * p**2 * theta**3.5
+
+
 def oxygen_attenuation(freq, medium):
     """Specific attenuation by dry air, oxygen lines plus dry continuum (dB/km).
 
@@ -177,15 +231,9 @@ def oxygen_attenuation(freq, medium):
     f, p, e, theta = _conditions(freq, medium)
     if p is None:
         return np.zeros_like(f)
-    table = _load_table("oxygen")
-    f0, a1, a2, a3, a4, a5, a6 = table.T
-    strength = a1 * 1e-7 * p * theta**3 * np.exp(a2 * (1 - theta))
-    width = a3 * 1e-4 * (p * theta ** (0.8 - a4) + 1.1 * e * theta)
-    width = np.sqrt(width**2 + 2.25e-6)
-    shift = (a5 + a6 * theta) * 1e-4 * (p + e) * theta**0.8
-    d = 5.6e-4 * (p + e) * theta**0.8
-    continuum = f * p * theta**2 * (6.14e-5 / (d * (1 + (f / d) ** 2))
-                                    + 1.4e-12 * p * theta**1.5 / (1 + 1.9e-5 * f**1.5))
+    f0, strength, width, shift = oxygen_line_parameters(p, e, theta)
+    s0, d, b = dry_continuum_parameters(p, e, theta)
+    continuum = s0 * (f / d) / (1 + (f / d) ** 2) + b * f / (1 + 1.9e-5 * f**1.5)
     return 0.1820 * f * (_line_sum(f, f0, strength, width, shift) + continuum)
 
 
@@ -213,12 +261,8 @@ def water_vapour_attenuation(freq, medium):
     f, p, e, theta = _conditions(freq, medium)
     if p is None:
         return np.zeros_like(f)
-    table = _load_table("water_vapour")
-    f0, b1, b2, b3, b4, b5, b6 = table.T
-    strength = b1 * 1e-1 * e * theta**3.5 * np.exp(b2 * (1 - theta))
-    width0 = b3 * 1e-4 * (p * theta**b4 + b5 * e * theta**b6)
-    width = 0.535 * width0 + np.sqrt(0.217 * width0**2 + 2.1316e-12 * f0**2 / theta)
-    return 0.1820 * f * _line_sum(f, f0, strength, width, 0.0)
+    f0, strength, width, shift = water_line_parameters(p, e, theta)
+    return 0.1820 * f * _line_sum(f, f0, strength, width, shift)
 
 
 def attenuation_coefficient(freq, medium):

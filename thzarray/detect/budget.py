@@ -22,6 +22,14 @@ Beside it the budget gives the far-field prediction (the radiation vector of
 and its relative error at each range, so that the distance from which the far field may be
 trusted is read off the same table (a column of length L is far-field only at ranges of
 several L and more; :func:`thzarray.field.surfaces.far_field_departure`).
+
+A receiver with noise settings (``nep``, ``integration_time``, ``repetition_rate``) also gets
+its signal-to-noise ratio :math:`\mathrm{SNR} = W f_{rep}\sqrt{2t_{int}}/\mathrm{NEP}`
+(:mod:`thzarray.detect.noise`) and the range where it falls to 1, the root of
+:math:`\mathrm{SNR}(R) = 1` of the far-field energy (which decreases monotonically with R;
+Brent's method in log R; trust it where ``far_field_error`` is small).
+Above 1 THz a HITRAN-format line list (``lines``) supplies the absorption
+(:func:`thzarray.air.refractivity.complex_index`); without it the budget uses P.676 alone.
 """
 
 from __future__ import annotations
@@ -30,9 +38,12 @@ from dataclasses import dataclass
 
 import numpy as np
 from scipy.constants import c, epsilon_0
+from scipy.optimize import brentq
 
 from thzarray.air.absorption import attenuation_coefficient
+from thzarray.air.hitran import LineList
 from thzarray.air.medium import Medium
+from thzarray.air.refractivity import complex_index
 from thzarray.base.band import band_weights, check_band, passband_weights
 from thzarray.base.checks import as_float_array, check_scalar
 from thzarray.base.geometry import unit_vectors
@@ -68,6 +79,10 @@ class RangeBudget:
         ``far_field_energy / energy - 1``.
     attenuation : ndarray, shape (H, F)
         Power attenuation coefficient alpha (1/m) at each humidity and frequency.
+    snr : ndarray, shape (H, D), or None
+        Signal-to-noise ratio, when the receiver has noise settings.
+    unit_snr_range : ndarray, shape (H,), or None
+        Range (m) at which the SNR falls to 1 (inf when it stays above 1 to 1e9 m).
     """
 
     ranges: np.ndarray
@@ -80,6 +95,8 @@ class RangeBudget:
     far_field_energy: np.ndarray
     far_field_error: np.ndarray
     attenuation: np.ndarray
+    snr: np.ndarray | None = None
+    unit_snr_range: np.ndarray | None = None
 
     @property
     def absorption_db(self) -> np.ndarray:
@@ -102,9 +119,29 @@ def _receiver_factor(receiver, freq, field, rhat):
                      "BroadbandDetector")
 
 
+def _unit_snr_range(per_freq, alpha, scale):
+    """Root of scale * sum(per_freq exp(-alpha R)) / R^2 = 1 in log R (m)."""
+    def log_snr(log_r):
+        r = np.exp(log_r)
+        return np.log(scale * np.sum(per_freq * np.exp(-alpha * r)) / r**2 + 1e-300)
+
+    lo, hi = np.log(1e-6), np.log(1e9)
+    if log_snr(hi) >= 0:
+        return np.inf
+    if log_snr(lo) <= 0:
+        return 0.0
+    return float(np.exp(brentq(log_snr, lo, hi, xtol=1e-12, rtol=1e-12)))
+
+
+def _alpha(freq, medium, lines):
+    if lines is None:
+        return attenuation_coefficient(freq, medium)
+    return 4 * np.pi * freq * complex_index(freq, medium, lines).imag / c
+
+
 def range_budget(filaments, receiver, freq, ranges, theta, phi=0.0,
                  medium: Medium | None = None, relative_humidity=None,
-                 plasma: Plasma | None = None) -> RangeBudget:
+                 plasma: Plasma | None = None, lines: LineList | None = None) -> RangeBudget:
     """Energy into a receiver versus range and humidity (exact field + P.676 absorption).
 
     Parameters
@@ -126,6 +163,8 @@ def range_budget(filaments, receiver, freq, ranges, theta, phi=0.0,
         medium's air; default the medium's own.
     plasma : Plasma, optional
         Absolute current spectrum; without it energies are per (A s)^2.
+    lines : LineList, optional
+        A HITRAN-format line list for the absorption above 1 THz.
 
     Returns
     -------
@@ -160,17 +199,24 @@ def range_budget(filaments, receiver, freq, ranges, theta, phi=0.0,
     shape = (rh.size, dist.size)
     energy, free, far, alpha = (np.empty(shape), np.empty(shape), np.empty(shape),
                                 np.empty((rh.size, f.size)))
+    per = []
     for i, med in enumerate(media):
         scale = 2 * med.n_thz * epsilon_0 * c
         ff = far_field(fils, f, th, ph, med, plasma).cartesian  # (F, 3)
         far_per = scale * _receiver_factor(receiver, f, ff, rhat)  # (F,)
+        per.append(far_per)
         exact = field_at(fils, f[:, None], points[None, :, :], med, plasma)  # (F, D, 3)
         exact_per = scale * _receiver_factor(receiver, f, exact, rhat)  # (F, D)
-        alpha[i] = attenuation_coefficient(f, med)
+        alpha[i] = _alpha(f, med, lines)
         loss = np.exp(-alpha[i][:, None] * dist[None, :])  # (F, D)
         free[i] = exact_per.sum(axis=0)
         energy[i] = (loss * exact_per).sum(axis=0)
         far[i] = (loss * far_per[:, None]).sum(axis=0) / dist**2
     with np.errstate(divide="ignore", invalid="ignore"):
         error = np.where(energy > 0, far / energy - 1.0, 0.0)
-    return RangeBudget(dist, rh, f, th, ph, energy, free, far, error, alpha)
+    if receiver.nep is None:
+        return RangeBudget(dist, rh, f, th, ph, energy, free, far, error, alpha)
+    snr_scale = float(receiver.signal_to_noise(1.0))
+    reach = np.array([_unit_snr_range(p, a, snr_scale) for p, a in zip(per, alpha)])
+    return RangeBudget(dist, rh, f, th, ph, energy, free, far, error, alpha,
+                       snr_scale * energy, reach)

@@ -45,6 +45,7 @@ from thzarray.base.checks import (
     unit_vector,
 )
 from thzarray.base.geometry import angles_of
+from thzarray.detect.noise import check_noise, signal_to_noise
 from thzarray.field.farfield import FarField
 from thzarray.field.polarization import (
     PolarizationMap,
@@ -67,6 +68,12 @@ def _unit(name, value):
     return tuple(unit_vector(name, value).tolist())
 
 
+def _set_noise(obj):
+    values = check_noise(obj.nep, obj.integration_time, obj.repetition_rate)
+    for name, value in zip(("nep", "integration_time", "repetition_rate"), values):
+        object.__setattr__(obj, name, value)
+
+
 @dataclass(frozen=True)
 class NarrowbandReceiver:
     """A linearly polarized receiver with a rectangular pass band.
@@ -84,6 +91,10 @@ class NarrowbandReceiver:
     beam_waist : float, optional
         Waist w0 (m, 1/e^2 intensity radius) of a Gaussian acceptance beam in the scan
         plane. Give exactly one of ``area`` and ``beam_waist``.
+    nep, integration_time, repetition_rate : float, optional
+        Noise-equivalent power (W/sqrt(Hz)), averaging time (s) and the pulse repetition
+        rate it records (Hz): all three or none; they give :meth:`signal_to_noise`
+        (:mod:`thzarray.detect.noise`).
     """
 
     center_freq: float
@@ -91,6 +102,9 @@ class NarrowbandReceiver:
     polarization: tuple = (1.0, 0.0, 0.0)
     area: float | None = None
     beam_waist: float | None = None
+    nep: float | None = None
+    integration_time: float | None = None
+    repetition_rate: float | None = None
 
     def __post_init__(self):
         set_ = object.__setattr__
@@ -108,12 +122,17 @@ class NarrowbandReceiver:
         else:
             set_(self, "beam_waist", check_scalar("beam_waist", self.beam_waist, low=0.0,
                                                   low_open=True, unit="m"))
+        _set_noise(self)
 
     @property
     def band(self) -> tuple[float, float]:
         """Lower and upper edge of the pass band (Hz)."""
         half = 0.5 * self.bandwidth
         return self.center_freq - half, self.center_freq + half
+
+    def signal_to_noise(self, energy):
+        """SNR of energies per pulse (J) recorded by this receiver (needs its noise settings)."""
+        return signal_to_noise(energy, self.nep, self.integration_time, self.repetition_rate)
 
     @property
     def effective_area(self) -> float:
@@ -200,12 +219,18 @@ class BroadbandDetector:
         Absorbing area (m^2), > 0.
     normal : 3-sequence of float
         Normal of the absorber (normalised here).
+    nep, integration_time, repetition_rate : float, optional
+        Noise-equivalent power (W/sqrt(Hz)), averaging time (s) and the pulse repetition
+        rate it records (Hz): all three or none (:mod:`thzarray.detect.noise`).
     """
 
     freq: np.ndarray
     response: np.ndarray
     area: float
     normal: tuple = field(default=(0.0, 0.0, 1.0))
+    nep: float | None = None
+    integration_time: float | None = None
+    repetition_rate: float | None = None
 
     def __post_init__(self):
         set_ = object.__setattr__
@@ -220,6 +245,11 @@ class BroadbandDetector:
         set_(self, "response", r)
         set_(self, "area", check_scalar("area", self.area, low=0.0, low_open=True, unit="m^2"))
         set_(self, "normal", _unit("normal", self.normal))
+        _set_noise(self)
+
+    def signal_to_noise(self, energy):
+        """SNR of energies per pulse (J) recorded by this detector (needs its noise settings)."""
+        return signal_to_noise(energy, self.nep, self.integration_time, self.repetition_rate)
 
     def response_at(self, freq):
         """Response interpolated linearly at ``freq`` (Hz), zero outside the samples."""
