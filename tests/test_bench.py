@@ -184,6 +184,7 @@ def test_plate_can_push_a_beam_below_critical_power():
     assert s.duration[1] / s.duration[0] > 1.2
     assert s.power_ratio[1] < 1 and s.column_length[1] == 0 and np.isnan(s.column_onset[1])
     assert s.column_length[0] > 0
+    assert "1 of 2 beams make no column" in bench_sheet_csv(s)
 
 
 def test_ramp_step_and_csv():

@@ -9,7 +9,8 @@ A design gives each filament a delay :math:`t_n` (s); on the bench a delay is se
   the plate also adds the group delay dispersion :math:`\mathrm{GDD} = \beta_2 d`, which
   lengthens the pulse (:func:`thzarray.inverse.glass.stretched_duration`) and so lowers
   P/P_cr and changes the column (:func:`thzarray.source.laser.plasma_from_laser`, run with
-  the lengthened pulse taken as unchirped; chirp-specific dynamics are not modelled);
+  the lengthened pulse taken as unchirped; chirp-specific dynamics are not modelled). The
+  changed columns are reported, not fed back into the delays;
 - a **stepped (echelon) mirror**: the facet of filament n sits a depth :math:`h_n` behind the
   front facet; at incidence angle :math:`\alpha` the reflected path grows by
   :math:`2 h\cos\alpha`, so :math:`h = c\,t/(2 n_{g,air}\cos\alpha)`. For a linear ramp of
@@ -459,6 +460,12 @@ def bench_sheet_csv(sheet: BenchSheet) -> str:
             f"rounding error rms q/sqrt(12) = {d.rms_error:.6g} s, largest here "
             f"{np.max(np.abs(d.error)):.6g} s; gain kept: expected {d.expected_gain:.6f}, "
             f"with these settings {d.realised_gain:.6f}")
+    lost = int(np.sum(s.column_length == 0))
+    lines.append(
+        f"# glass plate effect on the beams: FWHM {s.duration.min():.6g} to "
+        f"{s.duration.max():.6g} s, P/P_cr {s.power_ratio.min():.6g} to "
+        f"{s.power_ratio.max():.6g}, column length {s.column_length.min():.6g} to "
+        f"{s.column_length.max():.6g} m" + (f"; {lost} of {s.count} beams make no column" if lost else ""))
     lines.append(f"# set-up: the delay stage's travel is crossed {s.passes} times; stepped "
                  f"mirror at incidence {s.incidence:.6g} rad, " + (
                      f"linear ramp, step height {s.echelon_step:.6g} m"
