@@ -1,5 +1,7 @@
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 from scipy.constants import c
 from scipy.stats import uniform
@@ -156,6 +158,21 @@ def test_sheet_settings_realise_the_delays():
         assert_allclose(d.expected_gain, rounding_gain(d.quantum, 4, freq), rtol=1e-15)
         assert_allclose(d.realised_gain, timing_error_gain(d.error, freq), rtol=1e-15)
     assert np.isnan(s.echelon_step)  # these delays are not a ramp
+
+
+@settings(max_examples=20, deadline=None)
+@given(st.lists(st.floats(0.0, 30e-12), min_size=1, max_size=8),
+       st.floats(0.1e-6, 20e-6), st.floats(0.0, 1.2))
+def test_rounding_never_exceeds_half_a_step(delays, resolution, incidence):
+    # Rounding to the nearest step leaves at most half a step (common practice, no source);
+    # the delivered fraction of in-phase columns is at most 1 (|sum| <= N, triangle
+    # inequality).
+    s = bench_sheet(delays, BEAM, [0.5e12, 1.5e12], stage_resolution=resolution,
+                    thickness_resolution=resolution, step_resolution=resolution,
+                    incidence=incidence)
+    for d in (s.stage, s.plate, s.echelon):
+        assert np.all(np.abs(d.error) <= d.quantum / 2 * (1 + 1e-9) + 1e-27)
+        assert 0 < d.realised_gain <= 1 + 1e-12 and 0 < d.expected_gain <= 1
 
 
 def test_plate_dispersion_lengthens_the_pulse_and_weakens_the_column():

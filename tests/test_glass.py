@@ -183,6 +183,8 @@ def test_bad_input_is_refused():
         stretched_duration(0.0, 1e-28)
     with pytest.raises(ValueError, match="resonance"):
         Glass("bad", (1.0,), (1e-12,), (0.5e-6, 2e-6), "invented")
+    with pytest.raises(ValueError, match="source"):
+        Glass("ok", (1.0,), (1e-14,), (0.5e-6, 2e-6), "")
     with pytest.raises(ValueError, match="medium"):
         air_group_index(800e-9, "air")
     assert as_glass("fused silica") is GLASSES["fused_silica"]

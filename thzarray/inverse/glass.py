@@ -43,7 +43,7 @@ import numpy as np
 from scipy.constants import c
 
 from thzarray.air.medium import Medium
-from thzarray.base.checks import as_float_array, check_scalar
+from thzarray.base.checks import as_float_array, check_scalar, shorten
 
 __all__ = [
     "GLASSES",
@@ -86,6 +86,11 @@ class Glass:
     source: str
 
     def __post_init__(self):
+        for label in ("name", "source"):
+            value = getattr(self, label)
+            if not isinstance(value, str) or not value.strip():
+                raise ValueError(f"{label} = {shorten(value)} is not allowed; allowed: a "
+                                 "non-empty string")
         b = as_float_array("b", self.b, low=0.0)
         cc = as_float_array("c", self.c, low=0.0, unit="m^2")
         if b.ndim != 1 or b.shape != cc.shape:

@@ -44,7 +44,7 @@ from thzarray.array.layouts import with_delays
 from thzarray.array.steering import steering_delays
 from thzarray.array.targets import check_target
 from thzarray.base.band import check_band
-from thzarray.base.checks import as_float_array, check_scalar
+from thzarray.base.checks import as_float_array, check_scalar, shorten
 from thzarray.source.laser import (
     FilamentationModel,
     Pulse,
@@ -57,6 +57,7 @@ __all__ = [
     "MULTI_FILAMENT_RATIO",
     "SplitStudy",
     "beam_column",
+    "check_pulse",
     "family_layout",
     "split_study",
 ]
@@ -223,8 +224,8 @@ def _check_counts(counts):
     ok = (arr.ndim == 1 and arr.size >= 1 and np.issubdtype(arr.dtype, np.integer)
           and np.all(arr >= 1) and np.all(np.diff(arr) > 0))
     if not ok:
-        raise ValueError(f"counts = {arr.tolist()!r:.80} is not allowed; allowed: strictly "
-                         "increasing integers >= 1")
+        raise ValueError(f"counts = {shorten(arr.tolist())} is not allowed; allowed: "
+                         "strictly increasing integers >= 1")
     return arr.astype(int)
 
 
