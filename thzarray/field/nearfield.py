@@ -52,7 +52,8 @@ from thzarray.air.medium import Medium
 from thzarray.base.checks import as_float_array
 from thzarray.base.memory import DEFAULT_MEMORY_BUDGET, check_result_fits, chunk_points
 from thzarray.field import _near_kernels
-from thzarray.field.farfield import radiation_prefactor
+from thzarray.field.farfield import radiation_prefactor, spectral_groups
+from thzarray.source.column_plasma import ColumnPlasma
 from thzarray.source.filament import as_filaments
 from thzarray.source.plasma import Plasma
 
@@ -123,20 +124,24 @@ def spectral_fluence(e, h):
     return 2.0 * np.real(np.cross(np.asarray(e), np.conj(np.asarray(h))))
 
 
-def _pack(fils):
-    breaks, coefs, brk_off, coef_off = [], [], [0], [0]
-    for f in fils:
-        br, cf = f.pieces.breaks, f.pieces.coefs
+def _pack(fils, medium, coefs=None):
+    """Kernel arguments for ``fils``; ``coefs`` replaces each column's profile pieces by
+    (breaks, coefs) pairs (a plasma varying along the column, at one frequency)."""
+    breaks, coef_list, brk_off, coef_off = [], [], [0], [0]
+    for i, f in enumerate(fils):
+        br, cf = (f.pieces.breaks, f.pieces.coefs) if coefs is None else coefs[i]
         breaks.append(br)
-        coefs.append(cf)
+        coef_list.append(cf)
         brk_off.append(brk_off[-1] + br.size)
         coef_off.append(coef_off[-1] + cf.shape[0])
     return (np.array([f.start for f in fils], dtype=float).reshape(-1, 3),
             np.array([f.axis for f in fils], dtype=float).reshape(-1, 3),
+            np.array([f.current for f in fils], dtype=float).reshape(-1, 3),
             np.array([f.delay for f in fils]), np.array([f.amplitude for f in fils]),
             np.ascontiguousarray(np.concatenate(breaks)),
-            np.ascontiguousarray(np.concatenate(coefs)),
-            np.array(brk_off, dtype=np.int64), np.array(coef_off, dtype=np.int64))
+            np.ascontiguousarray(np.concatenate(coef_list)),
+            np.array(brk_off, dtype=np.int64), np.array(coef_off, dtype=np.int64),
+            np.array([f.group_index_in(medium) for f in fils], dtype=float))
 
 
 def _distance_to_columns(points, fils):
@@ -176,7 +181,7 @@ def _check_inputs(fils, freq, points, medium):
 
 
 def fields_at(filaments, freq, points, medium: Medium | None = None,
-              plasma: Plasma | None = None, *, compiled: bool = True,
+              plasma: Plasma | ColumnPlasma | None = None, *, compiled: bool = True,
               memory_budget: float = DEFAULT_MEMORY_BUDGET) -> NearField:
     """Electric and magnetic field spectra of filaments at finite distance.
 
@@ -190,8 +195,10 @@ def fields_at(filaments, freq, points, medium: Medium | None = None,
         column.
     medium : Medium, optional
         Defaults to vacuum.
-    plasma : Plasma, optional
-        Sets the current spectrum; without it I(w) = 1 A s.
+    plasma : Plasma or ColumnPlasma, optional
+        Sets the current spectrum (each column's group index); without it I(w) = 1 A s. A
+        ColumnPlasma that varies along a column is resampled per frequency (error bound in
+        :mod:`thzarray.source.column_plasma`).
     compiled : bool
         Numba kernel (default) or its numpy twin.
     memory_budget : float
@@ -210,7 +217,7 @@ def fields_at(filaments, freq, points, medium: Medium | None = None,
     fils = as_filaments(filaments)
     medium = Medium.vacuum() if medium is None else medium
     freq, points, shape = _check_inputs(fils, freq, points, medium)
-    packed = _pack(fils)
+    groups, varying, column_plasma = spectral_groups(fils, medium, plasma)
     size = int(np.prod(shape))
     result_bytes = 96 * size  # E and H, complex, 3 components
     check_result_fits("fields_at", result_bytes, memory_budget)
@@ -218,23 +225,55 @@ def fields_at(filaments, freq, points, medium: Medium | None = None,
     bf = np.broadcast_to(freq, shape)
     bxyz = [np.broadcast_to(points[..., j], shape) for j in range(3)]
     kernel = _near_kernels.line_fields if compiled else _near_kernels.line_fields_numpy
-    e = np.empty((size, 3), dtype=complex)
-    h = np.empty((size, 3), dtype=complex)
+    e = np.zeros((size, 3), dtype=complex)
+    h = np.zeros((size, 3), dtype=complex)
+    packs = [(local, ng, _pack(members, medium)) for (local, ng), members in groups.items()]
     for i0 in range(0, size, chunk):
         i1 = min(size, i0 + chunk)
         f_c = np.ascontiguousarray(bf.flat[i0:i1])
         p_c = np.ascontiguousarray(np.stack([b.flat[i0:i1] for b in bxyz], axis=-1))
-        e_c, h_c = kernel(f_c, p_c, *packed, medium.n_group, medium.n_thz)
         k = 2 * np.pi * f_c * medium.n_thz / c
         carrier = np.exp(1j * k * np.linalg.norm(p_c, axis=-1))
-        pref = radiation_prefactor(f_c, medium, plasma) * carrier
-        e[i0:i1] = pref[:, None] * e_c
-        h[i0:i1] = (pref / (2j * np.pi * f_c * mu_0))[:, None] * h_c
+        for local, ng, packed in packs:
+            e_c, h_c = kernel(f_c, p_c, *packed[:-1], packed[-1], medium.n_thz)
+            pref = radiation_prefactor(f_c, medium, local, ng) * carrier
+            e[i0:i1] += pref[:, None] * e_c
+            h[i0:i1] += (pref / (2j * np.pi * f_c * mu_0))[:, None] * h_c
+    if varying:
+        _add_varying(varying, column_plasma, bf.ravel(), bxyz, medium, kernel, chunk, e, h)
     return NearField(freq, points, e.reshape(shape + (3,)), h.reshape(shape + (3,)), medium)
 
 
+def _add_varying(fils, column_plasma, flat_freq, bxyz, medium, kernel, chunk, e, h):
+    """Add the fields of columns whose plasma varies along them: per distinct frequency each
+    column's current w(s) I(w; s) (A s) is resampled as piecewise cubics
+    (:meth:`ColumnPlasma.current_pieces`) and integrated by the same line-integral kernel."""
+    values, inverse = np.unique(flat_freq, return_inverse=True)
+    inverse = inverse.ravel()
+    order = np.argsort(inverse, kind="stable")
+    bounds = np.searchsorted(inverse[order], np.arange(values.size + 1))
+    ngs = [f.group_index_in(medium) for f in fils]
+    for j, fj in enumerate(values):
+        pieces = []
+        for f, ng in zip(fils, ngs):
+            br, cf = column_plasma.current_pieces(f, np.array([fj]), ng)
+            pieces.append((br, cf[0]))
+        packed = _pack(fils, medium, pieces)
+        idx_all = order[bounds[j]:bounds[j + 1]]
+        for i0 in range(0, idx_all.size, chunk):
+            idx = idx_all[i0:i0 + chunk]
+            f_c = np.full(idx.size, fj)
+            p_c = np.ascontiguousarray(np.stack([b.ravel()[idx] for b in bxyz], axis=-1))
+            e_c, h_c = kernel(f_c, p_c, *packed[:-1], packed[-1], medium.n_thz)
+            k = 2 * np.pi * fj * medium.n_thz / c
+            pref = (radiation_prefactor(f_c, medium, None)
+                    * np.exp(1j * k * np.linalg.norm(p_c, axis=-1)))
+            e[idx] += pref[:, None] * e_c
+            h[idx] += (pref / (2j * np.pi * f_c * mu_0))[:, None] * h_c
+
+
 def field_at(filaments, freq, points, medium: Medium | None = None,
-             plasma: Plasma | None = None, *, compiled: bool = True,
+             plasma: Plasma | ColumnPlasma | None = None, *, compiled: bool = True,
              memory_budget: float = DEFAULT_MEMORY_BUDGET) -> np.ndarray:
     """Electric field spectrum E(w) of filaments at points at finite distance (V s / m).
 
@@ -247,8 +286,10 @@ def field_at(filaments, freq, points, medium: Medium | None = None,
         Field points (m); closer than 1/100 wavelength to a column raises ValueError.
     medium : Medium, optional
         Defaults to vacuum.
-    plasma : Plasma, optional
-        Sets the current spectrum; without it I(w) = 1 A s.
+    plasma : Plasma or ColumnPlasma, optional
+        Sets the current spectrum (each column's group index); without it I(w) = 1 A s. A
+        ColumnPlasma that varies along a column is resampled per frequency (error bound in
+        :mod:`thzarray.source.column_plasma`).
     compiled : bool
         Numba kernel (default) or its numpy twin.
     memory_budget : float
@@ -275,7 +316,7 @@ def field_at(filaments, freq, points, medium: Medium | None = None,
 
 
 def magnetic_field_at(filaments, freq, points, medium: Medium | None = None,
-                      plasma: Plasma | None = None, *, compiled: bool = True,
+                      plasma: Plasma | ColumnPlasma | None = None, *, compiled: bool = True,
                       memory_budget: float = DEFAULT_MEMORY_BUDGET) -> np.ndarray:
     """Magnetic field spectrum H(w) of filaments at points at finite distance (A s / m).
 
