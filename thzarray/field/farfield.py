@@ -8,27 +8,56 @@ Conventions (shared by the whole package)
 - The returned field is the radiation vector :math:`\mathbf F = \lim r e^{-ikr}\mathbf E(\omega)`
   (V s), so :math:`\mathbf E \approx \mathbf F e^{ikr}/r`, :math:`k = n_T\omega/c`.
 
-The field (J. D. Jackson, Classical Electrodynamics, 3rd ed., secs. 9.1-9.2,
-:math:`\mathbf E = i\omega\mathbf A_\perp` far away) of currents
-:math:`q_n w_n(s) I(\omega) e^{i\omega(t_n + s n_g/c)}` on columns
-:math:`\mathbf r_n + s\hat a_n`, :math:`0\le s\le L_n`, is
+The radiation integral
+----------------------
+Column n starts at :math:`\mathbf r_n` and runs along the unit axis :math:`\hat a_n`; its
+pulse passes the start at :math:`t_n` and moves at :math:`c/n_{g,n}` (the column's group
+index, :attr:`~thzarray.source.filament.Filament.group_index`, else the medium's). It
+carries, in the unit direction :math:`\hat d_n`, the line current
+:math:`q_n w_n(s) I(\omega) e^{i\omega(t_n + s n_{g,n}/c)}` at
+:math:`\mathbf r_n + s\hat a_n`, :math:`0\le s\le L_n`: the current density is
+:math:`\mathbf J = \hat d_n\,q_n w_n I e^{i\omega(t_n + s n_{g,n}/c)}\,\delta^2(\mathbf x_\perp)`.
+Far away the vector potential is (J. D. Jackson, Classical Electrodynamics, 3rd ed., eq. 9.8)
+
+.. math:: \mathbf A(r\hat r) \to \frac{\mu_0}{4\pi}\frac{e^{ikr}}{r}
+          \int \mathbf J(\mathbf x') e^{-ik\hat r\cdot\mathbf x'} d^3x'
+          = \frac{\mu_0}{4\pi}\frac{e^{ikr}}{r}\sum_n \hat d_n\, q_n I(\omega)
+          e^{i(\omega t_n - k\hat r\cdot\mathbf r_n)} \int_0^{L_n} w_n(s) e^{iu_n s} ds,
+
+because the phase of the element at s is :math:`\omega s n_{g,n}/c - k s\,\hat r\cdot\hat a_n
+= u_n s`, whatever the direction in which the current flows. The radiation field is
+:math:`\mathbf E = i\omega\mathbf A_\perp = i\omega[\mathbf A - (\hat r\cdot\mathbf A)\hat r]`
+(Jackson secs. 9.1-9.2), so
 
 .. math:: \mathbf F = \frac{i\omega\mu_0 I(\omega)}{4\pi}\sum_n q_n
-          \left[\hat a_n - (\hat r\cdot\hat a_n)\hat r\right]
+          \left[\hat d_n - (\hat r\cdot\hat d_n)\hat r\right]
           e^{i(\omega t_n - k\hat r\cdot\mathbf r_n)}\int_0^{L_n} w_n(s)e^{iu_n s}ds,
-          \qquad u_n = \frac{\omega}{c}(n_g - n_T\,\hat r\cdot\hat a_n).
+          \qquad u_n = \frac{\omega}{c}(n_{g,n} - n_T\,\hat r\cdot\hat a_n).
+
+- Current along the axis (:math:`\hat d_n = \hat a_n`, the single-colour column): the
+  polarization :math:`\hat a_n - (\hat r\cdot\hat a_n)\hat r` lies in the plane of the axis
+  and the direction, radially about the axis, and vanishes on it: the hollow cone.
+- Current across the axis (:math:`\hat d_n\perp\hat a_n`, the two-colour photocurrent along
+  the laser polarization): the same longitudinal factor (the same phase matching
+  :math:`u_n`), but the polarization :math:`\hat d_n - (\hat r\cdot\hat d_n)\hat r` is the
+  projection of :math:`\hat d_n` across the line of sight: linear, along :math:`\hat d_n`
+  near the axis, nonzero on the axis, zero only along :math:`\pm\hat d_n`.
 
 For a uniform column the integral is :math:`L e^{iuL/2}\operatorname{sinc}(uL/2)`, exact and
-finite at phase matching (u = 0) and on the axis. For a profiled column it is the exact
-transform of the column's piecewise-cubic profile (see :mod:`thzarray.filament`), whose
-only error is the profile's interpolation error.
+finite at phase matching (u = 0) and on the axis. For a profiled column (real or complex
+profile) it is the exact transform of the column's piecewise-cubic profile (see
+:mod:`thzarray.source.filament`), whose only error is the profile's interpolation error.
+With a :class:`~thzarray.source.column_plasma.ColumnPlasma` whose density or collision rate
+varies along the column, :math:`I(\omega)` moves inside the integral,
+:math:`\int_0^{L} w(s) I(\omega; s) e^{ius} ds`, transformed exactly after resampling (error
+bound in that module). The current spectrum is evaluated with each column's group index.
 
 The spectral-angular energy density (one-sided in frequency, per hertz) follows from
 Parseval's theorem and the Poynting flux :math:`n_T\varepsilon_0 c|\mathbf E|^2`:
 
 .. math:: \frac{d^2W}{df\,d\Omega} = 2 n_T \varepsilon_0 c\,|\mathbf F|^2 \quad[\mathrm{J/(Hz\,sr)}].
 
-Without a :class:`~thzarray.plasma.Plasma` the current spectrum is 1 A s at every frequency:
+Without a :class:`~thzarray.source.plasma.Plasma` the current spectrum is 1 A s at every frequency:
 patterns are then per unit current spectrum and energies need the plasma's (or a measured)
 calibration factor.
 """

@@ -3,7 +3,8 @@ r"""Fields of filaments at finite distance: the exact line integral of the full 
 Model
 -----
 Column n carries :math:`I_n(s,\omega) = q_n w_n(s) I(\omega) e^{i\omega(t_n + s n_g/c)}` at
-:math:`\mathbf r_n + s\hat a_n` (the conventions of :mod:`thzarray.farfield`). With
+:math:`\mathbf r_n + s\hat a_n` (the conventions of :mod:`thzarray.field.farfield`; n_g the
+column's group index), flowing along the axis (below) or across it (further below). With
 :math:`e^{-i\omega t}` the current density is :math:`\mathbf J = -i\omega\mathbf P` for the
 polarization :math:`\mathbf P = i\mathbf J/\omega`, and continuity
 (:math:`\nabla\cdot\mathbf J = i\omega\rho`) gives the charge
@@ -15,7 +16,8 @@ A source described completely by :math:`\mathbf P` radiates the superposition of
 fields of its dipoles :math:`d\mathbf p = (i I\,ds/\omega)\,\hat a`, end charges included.
 Jackson's full point-dipole field (Classical Electrodynamics, 3rd ed., eq. 9.18) in a
 medium of index :math:`n_T` (:math:`\varepsilon = n_T^2\varepsilon_0`, :math:`k = n_T\omega/c`)
-then gives, with :math:`\mathbf R = \mathbf x - \mathbf r_n - s\hat a_n`,
+then gives, with :math:`\mathbf R = \mathbf x - \mathbf r_n - s\hat a_n`, for a current
+along the axis,
 
 .. math::
     \mathbf E(\mathbf x,\omega) = \frac{i\omega\mu_0 I(\omega)}{4\pi}\sum_n q_n e^{i\omega t_n}
@@ -31,6 +33,18 @@ then gives, with :math:`\mathbf R = \mathbf x - \mathbf r_n - s\hat a_n`,
 :math:`k_g = n_g\omega/c`: radiation, induction and quasi-static terms, no far-field or
 Fresnel approximation. Far away, :math:`R e^{-ikR}\mathbf E(R\hat r) \to` the radiation
 vector of :func:`thzarray.far_field`.
+
+A transverse current (unit direction :math:`\hat d\perp\hat a`, the two-colour
+photocurrent) is the superposition of the point dipoles :math:`d\mathbf p = (iI\,ds/\omega)\hat d`:
+the same formulas with :math:`\hat a` replaced by :math:`\hat d` in the brackets (the
+elements still sit at :math:`\mathbf r_n + s\hat a_n` and are still phased by
+:math:`e^{ik_g s}`). Its charges differ: :math:`\mathbf P = (iI(s)/\omega)\,\hat d\,
+\delta^2(\mathbf x_\perp)` has :math:`\rho = -\nabla\cdot\mathbf P =
+-(iI(s)/\omega)\,(\hat d\cdot\nabla_\perp)\delta^2(\mathbf x_\perp)`, because
+:math:`\hat d\cdot\hat a = 0` leaves no derivative along the column. There is no line
+charge from :math:`dI/ds` and no end charge: what remains is a line of transverse dipoles,
+charge :math:`\pm` piled on the two flanks of the core across :math:`\hat d`, of moment
+:math:`iI(s)/\omega` per length. The dipole sum holds all of it, as for the axial current.
 
 Quadrature: an oscillation-aware Filon-Legendre panel rule (see
 :mod:`thzarray._near_kernels`), whose cost grows with the number of Fresnel zones along the

@@ -173,7 +173,7 @@ class ColumnPlasma:
         except ValueError as exc:
             raise ValueError(f"plasma along the column: {exc}") from None
 
-    def current_spectrum(self, freq, s, length: float, n_group: float = 1.0):
+    def local_current_spectrum(self, freq, s, length: float, n_group: float = 1.0):
         """Local line-current spectrum I(w; n_e(s), nu(s), n_g) (A s).
 
         Parameters
@@ -221,7 +221,7 @@ class ColumnPlasma:
             the module docstring.
         """
         s = self.nodes(fil)
-        g = self.current_spectrum(freq, s, fil.length, n_group) * fil.profile_values(s)[None, :]
+        g = self.local_current_spectrum(freq, s, fil.length, n_group) * fil.profile_values(s)[None, :]
         spline = CubicSpline(s, g, axis=1, bc_type="not-a-knot")
         coefs = np.ascontiguousarray(np.transpose(spline.c[::-1], (2, 1, 0)))
         return s, coefs
