@@ -127,3 +127,17 @@ def test_onset_error_variance_uses_the_column_group_index():
     w = 2 * np.pi * freq[0]
     ref = (w / c) ** 2 * (1.01 - HUMID.n_thz * np.cos(0.2)) ** 2 * sigma**2
     assert_allclose(var[0, 0, 0], ref, rtol=1e-12)
+
+
+def test_memory_budget_counts_the_second_buffer_of_several_groups():
+    # Columns with different current spectra are summed into a second result-sized buffer:
+    # 64 bytes per point instead of 32 (thzarray.base.memory refuses what cannot fit).
+    freq = np.linspace(0.2e12, 1e12, 8)[:, None, None]
+    theta, phi = np.linspace(0, 0.5, 16)[:, None], np.linspace(0, 6, 16)
+    budget = 48 * freq.size * theta.size * phi.size
+    one = (Filament(0.02), Filament(0.02, (1e-3, 0, 0)))
+    two = (Filament(0.02), Filament(0.02, (1e-3, 0, 0), group_index=1.01))
+    far_field(one, freq, theta, phi, HUMID, PLASMA, memory_budget=budget)
+    far_field(two, freq, theta, phi, HUMID, memory_budget=budget)  # no plasma: one group
+    with pytest.raises(ValueError, match="memory_budget"):
+        far_field(two, freq, theta, phi, HUMID, PLASMA, memory_budget=budget)
