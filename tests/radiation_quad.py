@@ -77,7 +77,6 @@ def dipole_fields(p, centre, x, freq, medium):
 def near_field_quad(fil, freq, x, medium, direction=None, n_group=None, local=None):
     """E (V s/m) and H (A s/m) at x of the column as a superposition of point dipoles, by quad."""
     w = 2 * np.pi * freq
-    k = w * medium.n_thz / c
     ng = medium.n_group if n_group is None else n_group
     a, r0 = np.asarray(fil.axis), np.asarray(fil.start)
     d = a if direction is None else np.asarray(direction, float)

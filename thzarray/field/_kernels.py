@@ -343,8 +343,9 @@ def cubic_transform(u, breaks, coefs):
     Returns
     -------
     ndarray, complex, shape (M,)
-        The integral (m, times the unit of the coefficients). Where |u| h >= 1 for every piece, repeated integration by parts
-        leaves only the jumps of the profile and its first three derivatives at the knots,
+        The integral (m, times the unit of the coefficients). Where |u| h >= 1 for every
+        piece, repeated integration by parts leaves only the jumps of the profile and its
+        first three derivatives at the knots,
 
         .. math:: \int w\,e^{ius} ds = \sum_j e^{ius_j} \sum_{m=0}^{3}
                   \frac{(-1)^m [w^{(m)}]_j}{(iu)^{m+1}},
