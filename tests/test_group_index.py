@@ -141,3 +141,19 @@ def test_memory_budget_counts_the_second_buffer_of_several_groups():
     far_field(two, freq, theta, phi, HUMID, memory_budget=budget)  # no plasma: one group
     with pytest.raises(ValueError, match="memory_budget"):
         far_field(two, freq, theta, phi, HUMID, PLASMA, memory_budget=budget)
+
+
+def test_grid_pointwise_and_twin_agree_with_mixed_group_indices():
+    # The outer-grid kernel (frequency recurrence), the pointwise kernel and the numpy twin
+    # compute one formula (thzarray.field._kernels); they agree to rounding.
+    lay = (Filament(0.03), Filament(0.031, (1e-3, 0, 0), group_index=1.004),
+           Filament(0.029, (0, 2e-3, 0), axis=(0.1, 0, 1), current_direction=(0, 1, 0),
+                    group_index=1.0015))
+    freq = np.linspace(0.2e12, 1e12, 40)
+    theta, phi = np.linspace(0, 0.8, 9), np.linspace(0, 2 * np.pi, 5)
+    grid = far_field(lay, freq[:, None, None], theta[:, None], phi, HUMID)
+    f, t, p = np.meshgrid(freq, theta, phi, indexing="ij")
+    for compiled in (True, False):
+        ff = far_field(lay, f, t, p, HUMID, compiled=compiled)
+        for a, b in ((grid.e_theta, ff.e_theta), (grid.e_phi, ff.e_phi)):
+            assert_allclose(a, b, rtol=1e-12, atol=1e-12 * np.abs(b).max())
