@@ -140,8 +140,9 @@ def test_energy_of_a_transverse_column_two_routes():
 
 def test_short_transverse_column_radiates_like_a_dipole():
     # A column much shorter than the wavelength is a point dipole p = i I L / w whatever its
-    # orientation: dW/df = 2 eps0 c (w mu0 I L / (4 pi))^2 8 pi / 3 in vacuum (Jackson eq. 9.24
-    # in the package's spectral convention); corrections are of order (k L)^2 ~ 4e-7 here.
+    # orientation: dW/df = 2 eps0 c (w mu0 I L / (4 pi))^2 8 pi / 3 in vacuum (Jackson eq.
+    # 9.24, equation number from memory, in the package's spectral convention); corrections
+    # are of order (k L)^2 ~ 4e-7 here.
     short = 1e-7
     freq = np.array([0.5e12])
     w = 2 * np.pi * freq
