@@ -10,7 +10,7 @@ import numpy as np
 from numba import njit, prange
 
 from benchmarks.common import best_time, machine
-from thzarray import Medium, far_field, layouts
+from thzarray import Medium, factored_far_field, far_field, layouts
 from thzarray.field.nearfield import field_at
 
 
@@ -54,7 +54,7 @@ def run():
 
     # factored path: 64 identical filaments
     same = layouts.grid((8, 8), 1.5e-3, 0.03)
-    t_fac = best_time(lambda: layouts.factored_far_field(same, f, t, p, medium))
+    t_fac = best_time(lambda: factored_far_field(same, f, t, p, medium))
     rows.append(("far-field factored path (64 identical)", evals, t_fac, t_twin))
 
     # finite-distance line integrals: 16 columns of 1 m, plane of 64 x 64 at 1 m, 4 freq

@@ -40,11 +40,14 @@ def _pack(fils):
 
 
 def identical_elements(layout) -> bool:
-    """True when all columns share length, axis and profile (the field then factors)."""
+    """True when all columns share length, axis, current direction, group index and profile
+    (the field then factors)."""
     fils = as_filaments(layout)
     first = fils[0]
     for f in fils[1:]:
         if f.length != first.length or f.axis != first.axis or f.is_uniform != first.is_uniform:
+            return False
+        if f.current_direction != first.current_direction or f.group_index != first.group_index:
             return False
         if not f.is_uniform and f.pieces.key() != first.pieces.key():
             return False
@@ -126,7 +129,8 @@ def factored_far_field(filaments, freq, theta, phi, medium: Medium | None = None
     Raises
     ------
     ValueError
-        When the columns differ in length, axis or profile (see :func:`identical_elements`).
+        When the columns differ in length, axis, current direction, group index or profile
+        (see :func:`identical_elements`).
 
     Notes
     -----
@@ -136,8 +140,9 @@ def factored_far_field(filaments, freq, theta, phi, medium: Medium | None = None
     """
     fils = as_filaments(filaments)
     if not identical_elements(fils):
-        raise ValueError("filaments = columns of different length, axis or profile; allowed: "
-                         "identical columns for the factored sum (use array_far_field)")
+        raise ValueError("filaments = columns of different length, axis, current direction, "
+                         "group index or profile; allowed: identical columns for the factored "
+                         "sum (use array_far_field)")
     medium = Medium.vacuum() if medium is None else medium
     el = far_field(element_of(fils), freq, theta, phi, medium, plasma, compiled=compiled)
     af = array_factor(fils, freq, theta, phi, medium, compiled=compiled)

@@ -276,7 +276,8 @@ def staggered(layout, offsets, *, medium: Medium | None = None, follow_pulse: bo
         Needed with ``follow_pulse`` (defaults to vacuum).
     follow_pulse : bool
         When True the same pulse is taken to reach the moved start later, so each delay grows
-        by ``n_group * offset / c``; when False the delays are kept.
+        by ``n_group * offset / c`` (the column's group index); when False the delays are
+        kept.
 
     Returns
     -------
@@ -284,11 +285,11 @@ def staggered(layout, offsets, *, medium: Medium | None = None, follow_pulse: bo
     """
     fils = as_filaments(layout)
     dz = _per_column("offsets", offsets, len(fils), unit="m")
-    ng = (Medium.vacuum() if medium is None else medium).n_group
+    medium = Medium.vacuum() if medium is None else medium
     out = []
     for f, d in zip(fils, dz):
         start = tuple((np.asarray(f.start) + d * np.asarray(f.axis)).tolist())
-        delay = f.delay + (ng * d / c if follow_pulse else 0.0)
+        delay = f.delay + (f.group_index_in(medium) * d / c if follow_pulse else 0.0)
         out.append(f.replace(start=start, delay=delay))
     return tuple(out)
 

@@ -4,11 +4,15 @@ True-time steering
 ------------------
 Column n contributes toward :math:`\hat r_0` with phase
 :math:`\omega t_n - k\hat r_0\cdot\mathbf r_n + u_n s_n`, where :math:`s_n` is its emission
-centre along the axis (L/2 for a uniform column, the profile's centroid otherwise) and
-:math:`u_n = (\omega/c)(n_g - n_T\hat r_0\cdot\hat a_n)`. All columns arrive in phase at every
+centre along the axis (L/2 for a uniform column, the profile's centroid otherwise, see
+:attr:`thzarray.source.filament.Filament.emission_centre`) and
+:math:`u_n = (\omega/c)(n_{g,n} - n_T\hat r_0\cdot\hat a_n)`, :math:`n_{g,n}` the column's
+group index (:attr:`~thzarray.source.filament.Filament.group_index`, else the medium's). The
+phase is set by where and when the current flows, not by its direction: a transverse
+(two-colour) current is steered by the same delays. All columns arrive in phase at every
 frequency when
 
-.. math:: t_n = \frac{n_T\,\hat r_0\cdot(\mathbf r_n + s_n\hat a_n) - n_g s_n}{c} + C,
+.. math:: t_n = \frac{n_T\,\hat r_0\cdot(\mathbf r_n + s_n\hat a_n) - n_{g,n} s_n}{c} + C,
 
 C chosen so that the smallest delay is 0. For identical columns the centre term is common
 and this is the array's true-time-delay rule; for two columns at spacing d,
@@ -47,6 +51,7 @@ from thzarray.base.checks import check_scalar
 from thzarray.base.geometry import axis_frame, unit_vectors
 from thzarray.field.cone import cone_angle
 from thzarray.field.farfield import far_field
+from thzarray.source.column_plasma import ColumnPlasma
 from thzarray.source.filament import as_filaments
 from thzarray.source.plasma import Plasma
 
@@ -83,7 +88,7 @@ def steering_delays(filaments, theta, phi, medium: Medium | None = None) -> np.n
 
     Notes
     -----
-    .. math:: t_n = \\frac{n_T\\,\\hat r_0\\cdot(\\mathbf r_n + s_n\\hat a_n) - n_g s_n}{c} + C
+    .. math:: t_n = \\frac{n_T\\,\\hat r_0\\cdot(\\mathbf r_n + s_n\\hat a_n) - n_{g,n} s_n}{c} + C
 
     (module docstring; C. A. Balanis, Antenna Theory, arrays chapter).
     """
@@ -94,7 +99,7 @@ def steering_delays(filaments, theta, phi, medium: Medium | None = None) -> np.n
     for i, f in enumerate(fils):
         s = f.emission_centre
         centre = np.asarray(f.start) + s * np.asarray(f.axis)
-        t[i] = (medium.n_thz * (r0 @ centre) - medium.n_group * s) / c
+        t[i] = (medium.n_thz * (r0 @ centre) - f.group_index_in(medium) * s) / c
     return t - t.min()
 
 
@@ -156,18 +161,26 @@ class ConeLevel:
             return 10 * np.log10(self.level)
 
 
+def _varies_along(plasma, fil) -> bool:
+    """True when ``plasma`` is a ColumnPlasma that varies along ``fil``."""
+    return isinstance(plasma, ColumnPlasma) and plasma.constant_on(fil) is None
+
+
 def _element_levels(fil, theta, phi, freq, medium, plasma):
     el = fil.replace(start=(0.0, 0.0, 0.0), delay=0.0, amplitude=1.0)
     at_target = far_field(el, freq, theta, phi, medium, plasma).magnitude_squared
     a = np.asarray(el.axis)
-    e1 = axis_frame(a)[0]
+    # The pattern of a transverse current is largest in the plane across its direction.
+    e1 = axis_frame(a)[0] if el.is_axial else np.cross(a, el.current)
 
     def angles(psi):
         d = np.cos(psi)[..., None] * a + np.sin(psi)[..., None] * e1
         return np.arccos(np.clip(d[..., 2], -1, 1)), np.arctan2(d[..., 1], d[..., 0])
 
-    if el.is_uniform:
-        psi = cone_angle(el.length, freq, medium)
+    if el.is_uniform and el.is_axial and not _varies_along(plasma, el):
+        column_medium = medium if el.group_index is None else medium.with_group_index(
+            el.group_index)
+        psi = cone_angle(el.length, freq, column_medium)
     else:
         grid = np.linspace(0.0, np.pi, 2049)
         th, ph = angles(grid)
@@ -204,8 +217,10 @@ def cone_level(filaments, theta, phi, freq, medium: Medium | None = None,
 
     Notes
     -----
-    The cone maximum of a uniform column is at :func:`thzarray.field.cone.cone_angle` from its
-    axis; for a profiled column it is searched on a 2049-point grid of angles and refined.
+    The cone maximum of a uniform axial column is at :func:`thzarray.field.cone.cone_angle`
+    from its axis (in the medium with the column's group index); for a profiled or
+    transverse column, or a plasma varying along it, it is searched on a 2049-point grid of
+    angles (in the plane across the current for a transverse one) and refined.
     The array factor's magnitude is at most sum q_n whatever the delays, so
     ``N^2 * level`` bounds what phasing can gain toward the target over one column's cone
     maximum.
@@ -218,7 +233,7 @@ def cone_level(filaments, theta, phi, freq, medium: Medium | None = None,
     num, den = np.zeros(freq.size), np.zeros(freq.size)
     cache = {}
     for f in fils:
-        key = (f.length, f.axis, f.pieces.key())
+        key = (f.length, f.axis, f.current_direction, f.group_index, f.pieces.key())
         if key not in cache:
             cache[key] = _element_levels(f, theta, phi, freq, medium, plasma)
         t, m = cache[key]

@@ -7,7 +7,7 @@ Error model (independent, zero-mean Gaussian, per column and per build)
   transverse to the column's axis;
 - longitudinal onset error of rms :math:`\sigma_\parallel` (m): the column starts earlier or
   later along its own axis, and the pulse that drives it reaches the moved start
-  :math:`n_g\,\delta s/c` later.
+  :math:`n_g\,\delta s/c` later (:math:`n_g` the column's group index).
 
 In the far field a column moved by :math:`\delta\mathbf r` keeps its pattern and gains the
 phase :math:`-k\hat r\cdot\delta\mathbf r`, so column n's error phase toward :math:`\hat r` is
@@ -116,11 +116,12 @@ def phase_error_variance(filaments, theta, phi, freq, *, timing_jitter=0.0,
     w = 2 * np.pi * np.atleast_1d(np.asarray(freq, float))[:, None]
     r = unit_vectors(np.atleast_1d(theta), np.atleast_1d(phi))[0]  # (J, 3)
     axes = np.array([f.axis for f in fils])  # (N, 3)
+    n_group = np.array([f.group_index_in(medium) for f in fils])[:, None]
     cos_psi = axes @ r.T  # (N, J)
     trans2 = np.clip(1 - cos_psi**2, 0.0, None)
     k = w * medium.n_thz / c
     return ((w * st) ** 2 + k**2 * sp**2 * trans2[:, None, :]
-            + (w / c) ** 2 * ((medium.n_group - medium.n_thz * cos_psi) ** 2)[:, None, :] * sl**2)
+            + (w / c) ** 2 * ((n_group - medium.n_thz * cos_psi) ** 2)[:, None, :] * sl**2)
 
 
 def tolerance(filaments, target, freq, *, timing_jitter=0.0, transverse_error=0.0,
@@ -171,7 +172,8 @@ def tolerance(filaments, target, freq, *, timing_jitter=0.0, transverse_error=0.
     e2 = np.array([f[1] for f in frames])
     w = tf.omega
     k = w * medium.n_thz / c
-    slip = (medium.n_group - medium.n_thz * (axes @ r.T))  # (N, J)
+    n_group = np.array([f.group_index_in(medium) for f in fils])[:, None]
+    slip = (n_group - medium.n_thz * (axes @ r.T))  # (N, J)
     base = np.exp(1j * w[None, :] * delays[:, None])  # (N, F)
     g = tf.g * base[:, :, None, None]
     designed = type(tf)(g, w, tf.unit)

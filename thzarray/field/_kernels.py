@@ -7,14 +7,15 @@ the tests compare the two.
 Radiation integral of uniform columns
 -------------------------------------
 For direction r = (sin t cos p, sin t sin p, cos t) and angular frequency w, column n with
-start r_n, unit axis a_n, length L_n, delay t_n and amplitude q_n contributes
+start r_n, unit axis a_n, unit current direction d_n (a_n for the single-colour column),
+length L_n, delay t_n, amplitude q_n and group index n_{g,n} contributes
 
 .. math:: q_n L_n \\operatorname{sinc}(u_n L_n/2)\\,
-          e^{i(u_n L_n/2 + w t_n - k_T\\, r\\cdot r_n)}\\;(a_n\\cdot\\hat\\theta,\\ a_n\\cdot\\hat\\phi),
-          \\qquad u_n = k_g - k_T\\, r\\cdot a_n,
+          e^{i(u_n L_n/2 + w t_n - k_T\\, r\\cdot r_n)}\\;(d_n\\cdot\\hat\\theta,\\ d_n\\cdot\\hat\\phi),
+          \\qquad u_n = k_{g,n} - k_T\\, r\\cdot a_n,
 
-with k_g = w n_g / c and k_T = w n_T / c. The kernels return these sums over n; the caller
-multiplies by the frequency-only factor i w mu0 I(w) / (4 pi).
+with k_{g,n} = w n_{g,n} / c and k_T = w n_T / c. The kernels return these sums over n;
+the caller multiplies by the frequency-only factor i w mu0 I(w) / (4 pi).
 """
 
 from __future__ import annotations
@@ -37,14 +38,14 @@ _SERIES_TERMS = 24
 
 
 @njit(cache=True, parallel=True, error_model="numpy")
-def _uniform_sum(freq, theta, phi, length, start, axis, delay, amplitude, n_group, n_thz,
-                 out_t, out_p):
+def _uniform_sum(freq, theta, phi, length, start, axis, current, delay, amplitude, n_group,
+                 n_thz, out_t, out_p):
     m = freq.shape[0]
     nf = length.shape[0]
     two_pi_over_c = 2.0 * np.pi / _C
     for i in prange(m):
         w = 2.0 * np.pi * freq[i]
-        kg = two_pi_over_c * freq[i] * n_group
+        wc = two_pi_over_c * freq[i]
         kt = two_pi_over_c * freq[i] * n_thz
         st = np.sin(theta[i])
         ct = np.cos(theta[i])
@@ -65,6 +66,7 @@ def _uniform_sum(freq, theta, phi, length, start, axis, delay, amplitude, n_grou
             ay = axis[n, 1]
             az = axis[n, 2]
             cos_psi = rx * ax + ry * ay + rz * az
+            kg = wc * n_group[n]
             half = 0.5 * (kg - kt * cos_psi) * length[n]
             if abs(half) < 1e-6:
                 sinc = 1.0 - half * half / 6.0
@@ -75,8 +77,11 @@ def _uniform_sum(freq, theta, phi, length, start, axis, delay, amplitude, n_grou
             amp = amplitude[n] * length[n] * sinc
             zr = amp * np.cos(phase)
             zi = amp * np.sin(phase)
-            at = ax * tx + ay * ty + az * tz
-            ap = -ax * sp + ay * cp
+            dx = current[n, 0]
+            dy = current[n, 1]
+            dz = current[n, 2]
+            at = dx * tx + dy * ty + dz * tz
+            ap = -dx * sp + dy * cp
             acc_tr += zr * at
             acc_ti += zi * at
             acc_pr += zr * ap
@@ -85,19 +90,20 @@ def _uniform_sum(freq, theta, phi, length, start, axis, delay, amplitude, n_grou
         out_p[i] = complex(acc_pr, acc_pi)
 
 
-def uniform_sum(freq, theta, phi, length, start, axis, delay, amplitude, n_group, n_thz):
+def uniform_sum(freq, theta, phi, length, start, axis, current, delay, amplitude, n_group,
+                n_thz):
     """Compiled radiation-integral sums (theta, phi components) for uniform columns.
 
     Parameters
     ----------
     freq, theta, phi : ndarray, shape (M,)
         Frequency (Hz), polar and azimuthal angle (rad) of each evaluation point.
-    length, delay, amplitude : ndarray, shape (N,)
-        Column lengths (m), delays (s), amplitudes.
-    start, axis : ndarray, shape (N, 3)
-        Start points (m) and unit axes.
-    n_group, n_thz : float
-        Medium indices.
+    length, delay, amplitude, n_group : ndarray, shape (N,)
+        Column lengths (m), delays (s), amplitudes and group indices.
+    start, axis, current : ndarray, shape (N, 3)
+        Start points (m), unit axes and unit current directions.
+    n_thz : float
+        THz phase index of the medium.
 
     Returns
     -------
@@ -106,15 +112,21 @@ def uniform_sum(freq, theta, phi, length, start, axis, delay, amplitude, n_group
     """
     out_t = np.empty(freq.shape[0], dtype=np.complex128)
     out_p = np.empty(freq.shape[0], dtype=np.complex128)
-    _uniform_sum(freq, theta, phi, length, start, axis, delay, amplitude, float(n_group),
-                 float(n_thz), out_t, out_p)
+    _uniform_sum(freq, theta, phi, length, start, axis, current, delay, amplitude,
+                 _per_column(n_group, length), float(n_thz), out_t, out_p)
     return out_t, out_p
 
 
-def uniform_sum_numpy(freq, theta, phi, length, start, axis, delay, amplitude, n_group, n_thz):
+def _per_column(n_group, length):
+    """Group indices as a contiguous float array of one value per column."""
+    return np.ascontiguousarray(np.broadcast_to(np.asarray(n_group, dtype=float), length.shape))
+
+
+def uniform_sum_numpy(freq, theta, phi, length, start, axis, current, delay, amplitude, n_group,
+                      n_thz):
     """Numpy twin of :func:`uniform_sum` (same arguments and returns)."""
     w = 2 * np.pi * freq
-    kg = w * n_group / _C
+    n_group = _per_column(n_group, length)
     kt = w * n_thz / _C
     st, ct, sp, cp = np.sin(theta), np.cos(theta), np.sin(phi), np.cos(phi)
     r = np.stack([st * cp, st * sp, ct], axis=-1)
@@ -123,11 +135,12 @@ def uniform_sum_numpy(freq, theta, phi, length, start, axis, delay, amplitude, n
     out_t = np.zeros(freq.shape, dtype=complex)
     out_p = np.zeros(freq.shape, dtype=complex)
     for n in range(length.shape[0]):
+        kg = w * n_group[n] / _C
         half = 0.5 * (kg - kt * (r @ axis[n])) * length[n]
         term = (amplitude[n] * length[n] * np.sinc(half / np.pi)
                 * np.exp(1j * (half + w * delay[n] - kt * (r @ start[n]))))
-        out_t += term * (th @ axis[n])
-        out_p += term * (ph @ axis[n])
+        out_t += term * (th @ current[n])
+        out_p += term * (ph @ current[n])
     return out_t, out_p
 
 
@@ -135,8 +148,8 @@ _RESEED = 32  # recurrence steps between exact re-evaluations of the exponential
 
 
 @njit(cache=True, parallel=True, error_model="numpy")
-def _uniform_grid(freq, theta, phi, length, start, axis, delay, amplitude, n_group, n_thz,
-                  scale, equal_steps, out_t, out_p):
+def _uniform_grid(freq, theta, phi, length, start, axis, current, delay, amplitude, n_group,
+                  n_thz, scale, equal_steps, out_t, out_p):
     nf = freq.shape[0]
     nt = theta.shape[0]
     nph = phi.shape[0]
@@ -162,11 +175,14 @@ def _uniform_grid(freq, theta, phi, length, start, axis, delay, amplitude, n_gro
             az = axis[n, 2]
             cos_psi = rx * ax + ry * ay + rz * az
             r_dot = rx * start[n, 0] + ry * start[n, 1] + rz * start[n, 2]
-            at = ax * (ct * cp) + ay * (ct * sp) + az * (-st)
-            ap = -ax * sp + ay * cp
+            dx = current[n, 0]
+            dy = current[n, 1]
+            dz = current[n, 2]
+            at = dx * (ct * cp) + dy * (ct * sp) + dz * (-st)
+            ap = -dx * sp + dy * cp
             amp0 = amplitude[n] * length[n]
             # Every phase is linear in frequency: half = f * a_half, rest = f * a_rest.
-            a_half = 0.5 * two_pi_over_c * (n_group - n_thz * cos_psi) * length[n]
+            a_half = 0.5 * two_pi_over_c * (n_group[n] - n_thz * cos_psi) * length[n]
             a_rest = 2.0 * np.pi * delay[n] - two_pi_over_c * n_thz * r_dot
             inv_a = 1.0 / a_half if a_half != 0.0 else 0.0
             a_all = a_half + a_rest
@@ -195,15 +211,15 @@ def _uniform_grid(freq, theta, phi, length, start, axis, delay, amplitude, n_gro
             out_p[k, it, ip] = acc_p[k] * scale[k]
 
 
-def uniform_grid(freq, theta, phi, length, start, axis, delay, amplitude, n_group, n_thz,
-                 scale=None):
+def uniform_grid(freq, theta, phi, length, start, axis, current, delay, amplitude, n_group,
+                 n_thz, scale=None):
     """Compiled sums like :func:`uniform_sum` on the outer grid freq x theta x phi.
 
     Parameters
     ----------
     freq, theta, phi : ndarray, shapes (F,), (T,), (P,)
         Frequencies (Hz) and angles (rad); the grid is their outer product.
-    length, start, axis, delay, amplitude, n_group, n_thz : as for :func:`uniform_sum`.
+    length, start, axis, current, delay, amplitude, n_group, n_thz : as for :func:`uniform_sum`.
     scale : ndarray, complex, shape (F,), optional
         Factor applied per frequency (e.g. the radiation prefactor); default 1.
 
@@ -228,17 +244,18 @@ def uniform_grid(freq, theta, phi, length, start, axis, delay, amplitude, n_grou
     steps = np.diff(freq)
     equal = bool(freq.size > 2 and np.all(np.abs(steps - steps[0]) <= 1e-13 * np.abs(freq).max()))
     _uniform_grid(freq, np.ascontiguousarray(theta, dtype=float),
-                  np.ascontiguousarray(phi, dtype=float), length, start, axis, delay, amplitude,
-                  float(n_group), float(n_thz), scale, equal, out_t, out_p)
+                  np.ascontiguousarray(phi, dtype=float), length, start, axis, current, delay,
+                  amplitude, _per_column(n_group, length), float(n_thz), scale, equal, out_t,
+                  out_p)
     return out_t, out_p
 
 
-def uniform_grid_numpy(freq, theta, phi, length, start, axis, delay, amplitude, n_group, n_thz,
-                       scale=None):
+def uniform_grid_numpy(freq, theta, phi, length, start, axis, current, delay, amplitude, n_group,
+                       n_thz, scale=None):
     """Numpy twin of :func:`uniform_grid` (the pointwise twin on the broadcast grid)."""
     f, t, p = np.meshgrid(freq, theta, phi, indexing="ij")
     out_t, out_p = uniform_sum_numpy(f.ravel(), t.ravel(), p.ravel(), length, start, axis,
-                                     delay, amplitude, n_group, n_thz)
+                                     current, delay, amplitude, n_group, n_thz)
     scale = 1.0 if scale is None else np.asarray(scale)[:, None, None]
     return out_t.reshape(f.shape) * scale, out_p.reshape(f.shape) * scale
 
@@ -295,14 +312,14 @@ def knot_jumps(breaks, coefs):
     """Jumps p^(m)(s_j-) - p^(m)(s_j+), m = 0..3, of a C1 piecewise cubic, shape (P + 1, 4).
 
     Interior jumps of the value and the slope are exactly zero (the interpolants are C1);
-    outside the column the profile is zero.
+    outside the column the profile is zero. Complex coefficients give complex jumps.
     """
     h = np.diff(breaks)
     c0, c1, c2, c3 = coefs.T
     at_right_end = np.stack([c0 + h * (c1 + h * (c2 + h * c3)), c1 + h * (2 * c2 + 3 * h * c3),
                              2 * c2 + 6 * h * c3, 6 * c3], axis=1)
     at_left_end = np.stack([c0, c1, 2 * c2, 6 * c3], axis=1)
-    jumps = np.zeros((breaks.size, 4))
+    jumps = np.zeros((breaks.size, 4), dtype=coefs.dtype)
     jumps[1:] += at_right_end
     jumps[:-1] -= at_left_end
     jumps[1:-1, :2] = 0.0
@@ -318,14 +335,17 @@ def cubic_transform(u, breaks, coefs):
         Spatial angular frequency (rad/m).
     breaks : ndarray, shape (P + 1,)
         Piece boundaries (m).
-    coefs : ndarray, shape (P, 4)
-        Ascending-power coefficients of each piece in (s - breaks[j]).
+    coefs : ndarray, float or complex, shape (P, 4)
+        Ascending-power coefficients of each piece in (s - breaks[j]); complex coefficients
+        (a complex profile) are transformed as they are, by the complex specialisation of
+        the same loop (the transform is linear in them).
 
     Returns
     -------
     ndarray, complex, shape (M,)
-        The integral (m). Where |u| h >= 1 for every piece, repeated integration by parts
-        leaves only the jumps of the profile and its first three derivatives at the knots,
+        The integral (m, times the unit of the coefficients). Where |u| h >= 1 for every
+        piece, repeated integration by parts leaves only the jumps of the profile and its
+        first three derivatives at the knots,
 
         .. math:: \int w\,e^{ius} ds = \sum_j e^{ius_j} \sum_{m=0}^{3}
                   \frac{(-1)^m [w^{(m)}]_j}{(iu)^{m+1}},

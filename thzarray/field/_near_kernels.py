@@ -19,6 +19,17 @@ source point, so that no large phase is ever rounded). Then the reduced fields a
 :math:`\mathbf e = A\hat a + B\boldsymbol\rho` and
 :math:`\mathbf h = C\,\boldsymbol\rho\times\hat a`.
 
+A transverse current (unit direction :math:`\hat d \perp \hat a`) has
+:math:`\hat R\cdot\hat d = \rho_d/R` with the constant :math:`\rho_d = \boldsymbol\rho\cdot\hat d`,
+and :math:`\hat R\times\hat d = (\boldsymbol\rho\times\hat d + u\,\hat a\times\hat d)/R`, so
+
+.. math::
+    \mathbf e = A'\hat d + \rho_d\,(B'\boldsymbol\rho + B\hat a),\qquad
+    \mathbf h = C\,\boldsymbol\rho\times\hat d + C'\,\hat a\times\hat d,
+
+with :math:`A' = \int w e^{i\Phi}(1/R - \tau)ds`, :math:`B' = \int w e^{i\Phi} m/R^2 ds`
+and :math:`C' = \int w e^{i\Phi} u\gamma\,ds`.
+
 Quadrature (oscillation-aware, cost independent of the number of phase turns)
 --------------------------------------------------------------------------------
 [0, L] is cut at z0 and at the profile's breaks, and marched outward from the point
@@ -181,8 +192,9 @@ def _rel_phase(s, k, kg, rho, z0, xnorm, c_rr, c_ra, c_xr, c_xa):
 
 @njit(cache=True)
 def _panel(sa, sb, coef, s_piece, k, kg, rho, z0, xnorm, c_rr, c_ra, c_xr, c_xa, nodes, leg,
-           jb, acc):
-    """Add the panel [sa, sb]'s contributions to A, B, C (acc[0:3])."""
+           jb, transverse, acc):
+    """Add the panel [sa, sb]'s contributions to A, B, C (acc[0:3]) of an axial current, or
+    to A', B', C, B, C' (acc[0:5]) of a transverse one."""
     p = nodes.shape[0]
     half = 0.5 * (sb - sa)
     mid = 0.5 * (sa + sb)
@@ -194,6 +206,8 @@ def _panel(sa, sb, coef, s_piece, k, kg, rho, z0, xnorm, c_rr, c_ra, c_xr, c_xa,
     sum_a = 0.0j
     sum_b = 0.0j
     sum_c = 0.0j
+    sum_d = 0.0j
+    sum_e = 0.0j
     for j in range(p):
         s = mid + half * nodes[j]
         phi, r = _rel_phase(s, k, kg, rho, z0, xnorm, c_rr, c_ra, c_xr, c_xa)
@@ -219,21 +233,32 @@ def _panel(sa, sb, coef, s_piece, k, kg, rho, z0, xnorm, c_rr, c_ra, c_xr, c_xa,
         tau = complex(q3, -q2)
         mm = -q1 + 3.0 * tau
         inv_r2 = q1 * q1
-        alpha = q1 - tau + u * u * inv_r2 * mm
         beta = u * inv_r2 * mm
         gamma = complex(-q1 * inv_r2, k * inv_r2)
-        sum_a += weight * alpha
-        sum_b += weight * beta
+        if transverse:
+            sum_a += weight * (q1 - tau)
+            sum_b += weight * (inv_r2 * mm)
+            sum_d += weight * beta
+            sum_e += weight * (u * gamma)
+        else:
+            alpha = q1 - tau + u * u * inv_r2 * mm
+            sum_a += weight * alpha
+            sum_b += weight * beta
         sum_c += weight * gamma
     phase = half * complex(math.cos(phi_m), math.sin(phi_m))
     acc[0] += phase * sum_a
     acc[1] += phase * sum_b
     acc[2] += phase * sum_c
+    if transverse:
+        acc[3] += phase * sum_d
+        acc[4] += phase * sum_e
 
 
 @njit(cache=True)
-def _column(x, k, kg, start, axis, breaks, coefs, nodes, leg, c_amp, c_phase, jb, acc):
-    """A, B, C of one column at x (acc[0:3]), and rho_vec (acc[3:6] real)."""
+def _column(x, k, kg, start, axis, breaks, coefs, nodes, leg, c_amp, c_phase, jb, transverse,
+            acc):
+    """A, B, C (acc[0:3]; transverse: A', B', C, B, C' in acc[0:5]) of one column at x, and
+    rho_vec (acc[5:8] real)."""
     length = breaks[breaks.shape[0] - 1]
     dx = x[0] - start[0]
     dy = x[1] - start[1]
@@ -248,9 +273,8 @@ def _column(x, k, kg, start, axis, breaks, coefs, nodes, leg, c_amp, c_phase, jb
     c_ra = start[0] * axis[0] + start[1] * axis[1] + start[2] * axis[2]
     c_xr = x[0] * start[0] + x[1] * start[1] + x[2] * start[2]
     c_xa = x[0] * axis[0] + x[1] * axis[1] + x[2] * axis[2]
-    acc[0] = 0.0
-    acc[1] = 0.0
-    acc[2] = 0.0
+    for j in range(5):
+        acc[j] = 0.0
     split = min(max(z0, 0.0), length)
     for part in range(2):
         direction = 1.0 if part == 0 else -1.0
@@ -262,26 +286,26 @@ def _column(x, k, kg, start, axis, breaks, coefs, nodes, leg, c_amp, c_phase, jb
             sb = max(s, s_next)
             piece = min(max(_bisect_right(breaks, 0.5 * (sa + sb)) - 1, 0), coefs.shape[0] - 1)
             _panel(sa, sb, coefs[piece], breaks[piece], k, kg, rho, z0, xnorm, c_rr, c_ra, c_xr,
-                   c_xa, nodes, leg, jb, acc)
+                   c_xa, nodes, leg, jb, transverse, acc)
             s = s_next
-    acc[3] = rx
-    acc[4] = ry
-    acc[5] = rz
+    acc[5] = rx
+    acc[6] = ry
+    acc[7] = rz
 
 
 @njit(cache=True, parallel=True)
-def _line_fields(freq, points, start, axis, delay, amplitude, breaks, coefs, brk_off, coef_off,
-                 n_group, n_thz, nodes, leg, c_amp, c_phase, out_e, out_h):
+def _line_fields(freq, points, start, axis, current, delay, amplitude, breaks, coefs, brk_off,
+                 coef_off, n_group, n_thz, nodes, leg, c_amp, c_phase, out_e, out_h):
     m = freq.shape[0]
     nf = start.shape[0]
     p = nodes.shape[0]
     two_pi_over_c = 2.0 * np.pi / 299792458.0
     for i in prange(m):
         k = two_pi_over_c * freq[i] * n_thz
-        kg = two_pi_over_c * freq[i] * n_group
+        wc = two_pi_over_c * freq[i]
         w = 2.0 * np.pi * freq[i]
         jb = np.empty(p)
-        acc = np.empty(6, dtype=np.complex128)
+        acc = np.empty(8, dtype=np.complex128)
         e0 = 0.0j
         e1 = 0.0j
         e2 = 0.0j
@@ -291,24 +315,41 @@ def _line_fields(freq, points, start, axis, delay, amplitude, breaks, coefs, brk
         for n in range(nf):
             br = breaks[brk_off[n]:brk_off[n + 1]]
             cf = coefs[coef_off[n]:coef_off[n + 1]]
+            ax = axis[n, 0]
+            ay = axis[n, 1]
+            az = axis[n, 2]
+            dx = current[n, 0]
+            dy = current[n, 1]
+            dz = current[n, 2]
+            transverse = dx != ax or dy != ay or dz != az
+            kg = wc * n_group[n]
             _column(points[i], k, kg, start[n], axis[n], br, cf, nodes, leg, c_amp, c_phase,
-                    jb, acc)
+                    jb, transverse, acc)
             q = amplitude[n] * complex(math.cos(w * delay[n]), math.sin(w * delay[n]))
             a_int = q * acc[0]
             b_int = q * acc[1]
             c_int = q * acc[2]
-            rx = acc[3].real
-            ry = acc[4].real
-            rz = acc[5].real
-            ax = axis[n, 0]
-            ay = axis[n, 1]
-            az = axis[n, 2]
-            e0 += a_int * ax + b_int * rx
-            e1 += a_int * ay + b_int * ry
-            e2 += a_int * az + b_int * rz
-            h0 += c_int * (ry * az - rz * ay)
-            h1 += c_int * (rz * ax - rx * az)
-            h2 += c_int * (rx * ay - ry * ax)
+            rx = acc[5].real
+            ry = acc[6].real
+            rz = acc[7].real
+            if transverse:
+                rho_d = rx * dx + ry * dy + rz * dz
+                b2 = rho_d * q * acc[3]
+                b_int *= rho_d
+                c2 = q * acc[4]
+                e0 += a_int * dx + b_int * rx + b2 * ax
+                e1 += a_int * dy + b_int * ry + b2 * ay
+                e2 += a_int * dz + b_int * rz + b2 * az
+                h0 += c_int * (ry * dz - rz * dy) + c2 * (ay * dz - az * dy)
+                h1 += c_int * (rz * dx - rx * dz) + c2 * (az * dx - ax * dz)
+                h2 += c_int * (rx * dy - ry * dx) + c2 * (ax * dy - ay * dx)
+            else:
+                e0 += a_int * ax + b_int * rx
+                e1 += a_int * ay + b_int * ry
+                e2 += a_int * az + b_int * rz
+                h0 += c_int * (ry * az - rz * ay)
+                h1 += c_int * (rz * ax - rx * az)
+                h2 += c_int * (rx * ay - ry * ax)
         out_e[i, 0] = e0
         out_e[i, 1] = e1
         out_e[i, 2] = e2
@@ -317,8 +358,8 @@ def _line_fields(freq, points, start, axis, delay, amplitude, breaks, coefs, brk
         out_h[i, 2] = h2
 
 
-def line_fields(freq, points, start, axis, delay, amplitude, breaks, coefs, brk_off, coef_off,
-                n_group, n_thz):
+def line_fields(freq, points, start, axis, current, delay, amplitude, breaks, coefs, brk_off,
+                coef_off, n_group, n_thz):
     """Reduced fields e, h of all columns at M (frequency, point) pairs (compiled).
 
     Parameters
@@ -327,28 +368,33 @@ def line_fields(freq, points, start, axis, delay, amplitude, breaks, coefs, brk_
         Frequency (Hz) of each pair.
     points : ndarray, shape (M, 3)
         Field points (m).
-    start, axis : ndarray, shape (N, 3)
-        Column starts (m) and unit axes.
-    delay, amplitude : ndarray, shape (N,)
-        Delays (s) and amplitudes.
+    start, axis, current : ndarray, shape (N, 3)
+        Column starts (m), unit axes and unit current directions (equal to the axis, or
+        perpendicular to it).
+    delay, amplitude, n_group : ndarray, shape (N,)
+        Delays (s), amplitudes and group indices.
     breaks, coefs : ndarray
-        Concatenated profile breaks (m) and ascending cubic coefficients, (B,) and (P, 4).
+        Concatenated profile breaks (m) and ascending cubic coefficients, (B,) and (P, 4),
+        real or complex.
     brk_off, coef_off : ndarray of int64, shape (N + 1,)
         Offsets of each column's breaks and pieces.
-    n_group, n_thz : float
-        Medium indices.
+    n_thz : float
+        THz phase index of the medium.
 
     Returns
     -------
     (ndarray, ndarray), complex, shape (M, 3)
         ``sum_n q_n e^{i w t_n} (A a + B rho)`` (1/m) and ``sum_n q_n e^{i w t_n} C rho x a``
-        (1/m), without the factor ``e^{ik|x|}``.
+        (1/m) for axial currents, the forms of the module docstring for transverse ones,
+        without the factor ``e^{ik|x|}``.
     """
     m = freq.shape[0]
     out_e = np.empty((m, 3), dtype=np.complex128)
     out_h = np.empty((m, 3), dtype=np.complex128)
-    _line_fields(freq, points, start, axis, delay, amplitude, breaks, coefs, brk_off, coef_off,
-                 float(n_group), float(n_thz), _X, _LEG, C_AMPLITUDE, C_PHASE, out_e, out_h)
+    n_group = np.ascontiguousarray(np.broadcast_to(np.asarray(n_group, dtype=float),
+                                                   (start.shape[0],)))
+    _line_fields(freq, points, start, axis, current, delay, amplitude, breaks, coefs, brk_off,
+                 coef_off, n_group, float(n_thz), _X, _LEG, C_AMPLITUDE, C_PHASE, out_e, out_h)
     return out_e, out_h
 
 
@@ -373,7 +419,7 @@ def panel_edges(z0, rho, k, breaks):
     return np.unique(np.asarray(edges))
 
 
-def _column_numpy(x, k, kg, start, axis, breaks, coefs):
+def _column_numpy(x, k, kg, start, axis, breaks, coefs, transverse=False):
     d = x - start
     z0 = float(d @ axis)
     rho_vec = d - z0 * axis
@@ -410,26 +456,39 @@ def _column_numpy(x, k, kg, start, axis, breaks, coefs):
     gamma = (1j * k - 1 / r) / r**2
     g = weights * prof * np.exp(1j * delta)
     scale = half * np.exp(1j * phi_m)
-    a_int, b_int, c_int = (np.sum(scale * np.sum(g * f, axis=1)) for f in (alpha, beta, gamma))
-    return a_int, b_int, c_int, rho_vec
+    if transverse:
+        funcs = (1 / r - tau, mm / r**2, gamma, beta, u * gamma)
+    else:
+        funcs = (alpha, beta, gamma)
+    return tuple(np.sum(scale * np.sum(g * f, axis=1)) for f in funcs) + (rho_vec,)
 
 
-def line_fields_numpy(freq, points, start, axis, delay, amplitude, breaks, coefs, brk_off,
-                      coef_off, n_group, n_thz):
+def line_fields_numpy(freq, points, start, axis, current, delay, amplitude, breaks, coefs,
+                      brk_off, coef_off, n_group, n_thz):
     """Numpy twin of :func:`line_fields` (same arguments and returns; scipy Bessel functions)."""
     m = freq.shape[0]
     out_e = np.zeros((m, 3), dtype=complex)
     out_h = np.zeros((m, 3), dtype=complex)
     c = 299792458.0
+    n_group = np.broadcast_to(np.asarray(n_group, dtype=float), (start.shape[0],))
     for i in range(m):
         w = 2 * np.pi * freq[i]
-        k, kg = w * n_thz / c, w * n_group / c
+        k = w * n_thz / c
         for n in range(start.shape[0]):
+            kg = w * n_group[n] / c
             br = breaks[brk_off[n]:brk_off[n + 1]]
             cf = coefs[coef_off[n]:coef_off[n + 1]]
-            a_int, b_int, c_int, rho_vec = _column_numpy(points[i], k, kg, start[n], axis[n],
-                                                         br, cf)
             q = amplitude[n] * np.exp(1j * w * delay[n])
-            out_e[i] += q * (a_int * axis[n] + b_int * rho_vec)
-            out_h[i] += q * c_int * np.cross(rho_vec, axis[n])
+            a, d = axis[n], current[n]
+            if np.array_equal(a, d):
+                a_int, b_int, c_int, rho_vec = _column_numpy(points[i], k, kg, start[n], a, br,
+                                                             cf)
+                out_e[i] += q * (a_int * a + b_int * rho_vec)
+                out_h[i] += q * c_int * np.cross(rho_vec, a)
+                continue
+            a1, b1, c_int, b2, c2, rho_vec = _column_numpy(points[i], k, kg, start[n], a, br, cf,
+                                                           transverse=True)
+            rho_d = rho_vec @ d
+            out_e[i] += q * (a1 * d + rho_d * (b1 * rho_vec + b2 * a))
+            out_h[i] += q * (c_int * np.cross(rho_vec, d) + c2 * np.cross(a, d))
     return out_e, out_h

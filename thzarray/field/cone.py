@@ -310,8 +310,9 @@ def band_cone_angle(length, freq, spectral_weight=None, medium: Medium | None = 
     spectral_weight : array_like, shape (F,), optional
         Spectral weight (e.g. a detector's response), >= 0; default 1.
     medium : Medium, optional
-    plasma : Plasma, optional
-        Includes the plasma's current spectrum in the weight (driven at the group index used).
+    plasma : Plasma or ColumnPlasma, optional
+        Includes the plasma's current spectrum (driven at the group index used; varying
+        along the column for a ColumnPlasma).
     group_index : float, optional
         The driver's group index, 1 to 2; ``medium.n_group`` when None (module docstring).
 
@@ -324,11 +325,9 @@ def band_cone_angle(length, freq, spectral_weight=None, medium: Medium | None = 
     freq = check_band(freq, minimum=2)
     fil = Filament(length)
     spectral = band_weights(freq, spectral_weight)
-    if plasma is not None:
-        spectral = spectral * np.abs(plasma.current_spectrum(freq, medium.n_group)) ** 2
 
     def band(theta):
-        ff = far_field(fil, freq[:, None], np.atleast_1d(theta)[None, :], 0.0, medium)
+        ff = far_field(fil, freq[:, None], np.atleast_1d(theta)[None, :], 0.0, medium, plasma)
         return (ff.energy_density * spectral[:, None]).sum(axis=0)
 
     finest = float(np.min(cone_angle(length, freq, medium)))

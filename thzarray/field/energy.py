@@ -19,6 +19,7 @@ from thzarray.base.band import band_weights, check_band
 from thzarray.base.checks import as_float_array
 from thzarray.base.geometry import axis_frame
 from thzarray.field.farfield import far_field, radiation_prefactor
+from thzarray.source.column_plasma import ColumnPlasma
 from thzarray.source.filament import Filament, as_filaments
 from thzarray.source.plasma import Plasma
 
@@ -33,7 +34,8 @@ def _sphere_rule(fils, freq_max, medium):
     spread k (n_g + n_T) L over mu in [-1, 1]); the azimuth gets the trapezoid rule, which
     converges spectrally for periodic integrands, with nodes for the transverse extent.
     """
-    kmax = 2 * np.pi * freq_max * (medium.n_group + medium.n_thz) / c
+    n_group = max(f.group_index_in(medium) for f in fils)
+    kmax = 2 * np.pi * freq_max * (n_group + medium.n_thz) / c
     ex, ey, ez = axis_frame(fils[0].axis)
     pts = np.array([p for f in fils for p in (np.asarray(f.start), f.end)])
     rel = pts - pts.mean(axis=0)
@@ -92,19 +94,24 @@ def spectral_energy(filaments, freq, medium: Medium | None = None,
 
 
 def source_spectral_energy(filament: Filament, freq, medium: Medium | None = None,
-                           plasma: Plasma | None = None) -> np.ndarray:
+                           plasma: Plasma | ColumnPlasma | None = None) -> np.ndarray:
     """dW/df (J/Hz) of one uniform column computed in source space, without the sphere.
 
     An independent route to :func:`spectral_energy`: integrating ``|F|^2`` over all directions
     analytically first turns the energy into a double integral over the current,
 
     .. math:: \\frac{dW}{df} = 2 n_T\\varepsilon_0 c \\left(\\frac{\\omega\\mu_0|I|q}{4\\pi}\\right)^2
-              \\int_{-L}^{L} (L - |\\Delta|)\\, e^{i k_g\\Delta}\\, 8\\pi
-              \\frac{j_1(k_T|\\Delta|)}{k_T|\\Delta|}\\, d\\Delta,
+              \\int_{-L}^{L} (L - |\\Delta|)\\, e^{i k_g\\Delta}\\, K(k_T|\\Delta|)\\, d\\Delta,
 
-    using :math:`\\int (1-\\mu^2) e^{ix\\mu} d\\mu\\,d\\phi = 8\\pi j_1(x)/x` (spherical Bessel
-    function j_1). The remaining integral is done by composite Gauss-Legendre quadrature
-    with panels shorter than a third of the fastest oscillation.
+    with the angular kernel :math:`K(x) = \\oint |\\hat d - (\\hat r\\cdot\\hat d)\\hat r|^2
+    e^{ix\\mu}d\\Omega` (:math:`\\mu = \\hat r\\cdot\\hat a`, spherical Bessel functions
+    j_0, j_1): for a current along the axis :math:`|\\hat d_\\perp|^2 = 1 - \\mu^2` and
+    :math:`K = 8\\pi j_1(x)/x`; for a transverse current :math:`|\\hat d_\\perp|^2 = 1 -
+    (1 - \\mu^2)\\cos^2\\phi`, whose azimuthal mean is :math:`(1 + \\mu^2)/2`, and
+    :math:`K = \\pi\\int_{-1}^{1}(1 + \\mu^2)e^{ix\\mu}d\\mu = 4\\pi\\,(j_0(x) - j_1(x)/x)`.
+    The remaining integral is done by composite Gauss-Legendre quadrature with panels
+    shorter than a third of the fastest oscillation; :math:`k_g` uses the column's group
+    index.
 
     In vacuum this reduces to the long-wire result of C. A. Balanis, Antenna Theory,
     traveling-wave antennas: the integral is
@@ -114,13 +121,19 @@ def source_spectral_energy(filament: Filament, freq, medium: Medium | None = Non
         raise ValueError("filament = a profiled or non-Filament source; allowed: one uniform "
                          "Filament")
     medium = Medium.vacuum() if medium is None else medium
+    if isinstance(plasma, ColumnPlasma):
+        plasma = plasma.constant_on(filament)
+        if plasma is None:
+            raise ValueError("plasma = a ColumnPlasma varying along the column; allowed: a "
+                             "plasma constant along it (use spectral_energy otherwise)")
+    n_group = filament.group_index_in(medium)
     freq = as_float_array("freq", freq, low=0.0, low_open=True, unit="Hz")
     length = filament.length
     nodes16, weights16 = roots_legendre(16)
     out = np.empty(freq.shape)
     for idx, f in np.ndenumerate(freq):
         w = 2 * np.pi * f
-        kg, kt = w * medium.n_group / c, w * medium.n_thz / c
+        kg, kt = w * n_group / c, w * medium.n_thz / c
         panels = int(np.ceil(3 * (kg + kt) * length / np.pi)) + 4
         edges = np.linspace(0.0, length, panels + 1)
         half = 0.5 * np.diff(edges)
@@ -128,10 +141,15 @@ def source_spectral_energy(filament: Filament, freq, medium: Medium | None = Non
         delta = (mid[:, None] + half[:, None] * nodes16[None, :]).ravel()
         wts = (half[:, None] * weights16[None, :]).ravel()
         x = kt * delta
-        kernel = 8 * np.pi * np.where(x > 1e-3, spherical_jn(1, np.maximum(x, 1e-3))
-                                      / np.maximum(x, 1e-3), 1 / 3 - x**2 / 30)
+        xs = np.maximum(x, 1e-3)
+        if filament.is_axial:
+            kernel = 8 * np.pi * np.where(x > 1e-3, spherical_jn(1, xs) / xs, 1 / 3 - x**2 / 30)
+        else:
+            kernel = 4 * np.pi * np.where(x > 1e-3, spherical_jn(0, xs) - spherical_jn(1, xs) / xs,
+                                          2 / 3 - 2 * x**2 / 15)
         integral = 2 * np.sum(wts * (length - delta) * np.cos(kg * delta) * kernel)
-        pref = np.abs(radiation_prefactor(np.array([f]), medium, plasma)[0]) * filament.amplitude
+        pref = (np.abs(radiation_prefactor(np.array([f]), medium, plasma, n_group)[0])
+                * filament.amplitude)
         out[idx] = 2 * medium.n_thz * epsilon_0 * c * pref**2 * integral
     return out
 

@@ -3,7 +3,8 @@ r"""Fields of filaments at finite distance: the exact line integral of the full 
 Model
 -----
 Column n carries :math:`I_n(s,\omega) = q_n w_n(s) I(\omega) e^{i\omega(t_n + s n_g/c)}` at
-:math:`\mathbf r_n + s\hat a_n` (the conventions of :mod:`~thzarray.field.farfield`). With
+:math:`\mathbf r_n + s\hat a_n` (the conventions of :mod:`~thzarray.field.farfield`; n_g the
+column's group index), flowing along the axis (below) or across it (further below). With
 :math:`e^{-i\omega t}` the current density is :math:`\mathbf J = -i\omega\mathbf P` for the
 polarization :math:`\mathbf P = i\mathbf J/\omega`, and continuity
 (:math:`\nabla\cdot\mathbf J = i\omega\rho`) gives the charge
@@ -15,7 +16,8 @@ A source described completely by :math:`\mathbf P` radiates the superposition of
 fields of its dipoles :math:`d\mathbf p = (i I\,ds/\omega)\,\hat a`, end charges included.
 Jackson's full point-dipole field (Classical Electrodynamics, 3rd ed., eq. 9.18) in a
 medium of index :math:`n_T` (:math:`\varepsilon = n_T^2\varepsilon_0`, :math:`k = n_T\omega/c`)
-then gives, with :math:`\mathbf R = \mathbf x - \mathbf r_n - s\hat a_n`,
+then gives, with :math:`\mathbf R = \mathbf x - \mathbf r_n - s\hat a_n`, for a current
+along the axis,
 
 .. math::
     \mathbf E(\mathbf x,\omega) = \frac{i\omega\mu_0 I(\omega)}{4\pi}\sum_n q_n e^{i\omega t_n}
@@ -31,6 +33,18 @@ then gives, with :math:`\mathbf R = \mathbf x - \mathbf r_n - s\hat a_n`,
 :math:`k_g = n_g\omega/c`: radiation, induction and quasi-static terms, no far-field or
 Fresnel approximation. Far away, :math:`R e^{-ikR}\mathbf E(R\hat r) \to` the radiation
 vector of :func:`thzarray.far_field`.
+
+A transverse current (unit direction :math:`\hat d\perp\hat a`, the two-colour
+photocurrent) is the superposition of the point dipoles :math:`d\mathbf p = (iI\,ds/\omega)\hat d`:
+the same formulas with :math:`\hat a` replaced by :math:`\hat d` in the brackets (the
+elements still sit at :math:`\mathbf r_n + s\hat a_n` and are still phased by
+:math:`e^{ik_g s}`). Its charges differ: :math:`\mathbf P = (iI(s)/\omega)\,\hat d\,
+\delta^2(\mathbf x_\perp)` has :math:`\rho = -\nabla\cdot\mathbf P =
+-(iI(s)/\omega)\,(\hat d\cdot\nabla_\perp)\delta^2(\mathbf x_\perp)`, because
+:math:`\hat d\cdot\hat a = 0` leaves no derivative along the column. There is no line
+charge from :math:`dI/ds` and no end charge: what remains is a line of transverse dipoles,
+charge :math:`\pm` piled on the two flanks of the core across :math:`\hat d`, of moment
+:math:`iI(s)/\omega` per length. The dipole sum holds all of it, as for the axial current.
 
 Quadrature: an oscillation-aware Filon-Legendre panel rule (see
 ``thzarray.field._near_kernels``), whose cost grows with the number of Fresnel zones along the
@@ -52,7 +66,8 @@ from thzarray.air.medium import Medium
 from thzarray.base.checks import as_float_array
 from thzarray.base.memory import DEFAULT_MEMORY_BUDGET, check_result_fits, chunk_points
 from thzarray.field import _near_kernels
-from thzarray.field.farfield import radiation_prefactor
+from thzarray.field.farfield import radiation_prefactor, spectral_groups
+from thzarray.source.column_plasma import ColumnPlasma
 from thzarray.source.filament import as_filaments
 from thzarray.source.plasma import Plasma
 
@@ -123,20 +138,24 @@ def spectral_fluence(e, h):
     return 2.0 * np.real(np.cross(np.asarray(e), np.conj(np.asarray(h))))
 
 
-def _pack(fils):
-    breaks, coefs, brk_off, coef_off = [], [], [0], [0]
-    for f in fils:
-        br, cf = f.pieces.breaks, f.pieces.coefs
+def _pack(fils, medium, coefs=None):
+    """Kernel arguments for ``fils``; ``coefs`` replaces each column's profile pieces by
+    (breaks, coefs) pairs (a plasma varying along the column, at one frequency)."""
+    breaks, coef_list, brk_off, coef_off = [], [], [0], [0]
+    for i, f in enumerate(fils):
+        br, cf = (f.pieces.breaks, f.pieces.coefs) if coefs is None else coefs[i]
         breaks.append(br)
-        coefs.append(cf)
+        coef_list.append(cf)
         brk_off.append(brk_off[-1] + br.size)
         coef_off.append(coef_off[-1] + cf.shape[0])
     return (np.array([f.start for f in fils], dtype=float).reshape(-1, 3),
             np.array([f.axis for f in fils], dtype=float).reshape(-1, 3),
+            np.array([f.current for f in fils], dtype=float).reshape(-1, 3),
             np.array([f.delay for f in fils]), np.array([f.amplitude for f in fils]),
             np.ascontiguousarray(np.concatenate(breaks)),
-            np.ascontiguousarray(np.concatenate(coefs)),
-            np.array(brk_off, dtype=np.int64), np.array(coef_off, dtype=np.int64))
+            np.ascontiguousarray(np.concatenate(coef_list)),
+            np.array(brk_off, dtype=np.int64), np.array(coef_off, dtype=np.int64),
+            np.array([f.group_index_in(medium) for f in fils], dtype=float))
 
 
 def _distance_to_columns(points, fils):
@@ -176,7 +195,7 @@ def _check_inputs(fils, freq, points, medium):
 
 
 def fields_at(filaments, freq, points, medium: Medium | None = None,
-              plasma: Plasma | None = None, *, compiled: bool = True,
+              plasma: Plasma | ColumnPlasma | None = None, *, compiled: bool = True,
               memory_budget: float = DEFAULT_MEMORY_BUDGET) -> NearField:
     """Electric and magnetic field spectra of filaments at finite distance.
 
@@ -190,8 +209,10 @@ def fields_at(filaments, freq, points, medium: Medium | None = None,
         column.
     medium : Medium, optional
         Defaults to vacuum.
-    plasma : Plasma, optional
-        Sets the current spectrum; without it I(w) = 1 A s.
+    plasma : Plasma or ColumnPlasma, optional
+        Sets the current spectrum (each column's group index); without it I(w) = 1 A s. A
+        ColumnPlasma that varies along a column is resampled per frequency (error bound in
+        :mod:`thzarray.source.column_plasma`).
     compiled : bool
         Numba kernel (default) or its numpy twin.
     memory_budget : float
@@ -210,7 +231,7 @@ def fields_at(filaments, freq, points, medium: Medium | None = None,
     fils = as_filaments(filaments)
     medium = Medium.vacuum() if medium is None else medium
     freq, points, shape = _check_inputs(fils, freq, points, medium)
-    packed = _pack(fils)
+    groups, varying, column_plasma = spectral_groups(fils, medium, plasma)
     size = int(np.prod(shape))
     result_bytes = 96 * size  # E and H, complex, 3 components
     check_result_fits("fields_at", result_bytes, memory_budget)
@@ -218,23 +239,55 @@ def fields_at(filaments, freq, points, medium: Medium | None = None,
     bf = np.broadcast_to(freq, shape)
     bxyz = [np.broadcast_to(points[..., j], shape) for j in range(3)]
     kernel = _near_kernels.line_fields if compiled else _near_kernels.line_fields_numpy
-    e = np.empty((size, 3), dtype=complex)
-    h = np.empty((size, 3), dtype=complex)
+    e = np.zeros((size, 3), dtype=complex)
+    h = np.zeros((size, 3), dtype=complex)
+    packs = [(local, ng, _pack(members, medium)) for (local, ng), members in groups.items()]
     for i0 in range(0, size, chunk):
         i1 = min(size, i0 + chunk)
         f_c = np.ascontiguousarray(bf.flat[i0:i1])
         p_c = np.ascontiguousarray(np.stack([b.flat[i0:i1] for b in bxyz], axis=-1))
-        e_c, h_c = kernel(f_c, p_c, *packed, medium.n_group, medium.n_thz)
         k = 2 * np.pi * f_c * medium.n_thz / c
         carrier = np.exp(1j * k * np.linalg.norm(p_c, axis=-1))
-        pref = radiation_prefactor(f_c, medium, plasma) * carrier
-        e[i0:i1] = pref[:, None] * e_c
-        h[i0:i1] = (pref / (2j * np.pi * f_c * mu_0))[:, None] * h_c
+        for local, ng, packed in packs:
+            e_c, h_c = kernel(f_c, p_c, *packed[:-1], packed[-1], medium.n_thz)
+            pref = radiation_prefactor(f_c, medium, local, ng) * carrier
+            e[i0:i1] += pref[:, None] * e_c
+            h[i0:i1] += (pref / (2j * np.pi * f_c * mu_0))[:, None] * h_c
+    if varying:
+        _add_varying(varying, column_plasma, bf.ravel(), bxyz, medium, kernel, chunk, e, h)
     return NearField(freq, points, e.reshape(shape + (3,)), h.reshape(shape + (3,)), medium)
 
 
+def _add_varying(fils, column_plasma, flat_freq, bxyz, medium, kernel, chunk, e, h):
+    """Add the fields of columns whose plasma varies along them: per distinct frequency each
+    column's current w(s) I(w; s) (A s) is resampled as piecewise cubics
+    (:meth:`ColumnPlasma.current_pieces`) and integrated by the same line-integral kernel."""
+    values, inverse = np.unique(flat_freq, return_inverse=True)
+    inverse = inverse.ravel()
+    order = np.argsort(inverse, kind="stable")
+    bounds = np.searchsorted(inverse[order], np.arange(values.size + 1))
+    ngs = [f.group_index_in(medium) for f in fils]
+    for j, fj in enumerate(values):
+        pieces = []
+        for f, ng in zip(fils, ngs):
+            br, cf = column_plasma.current_pieces(f, np.array([fj]), ng)
+            pieces.append((br, cf[0]))
+        packed = _pack(fils, medium, pieces)
+        idx_all = order[bounds[j]:bounds[j + 1]]
+        for i0 in range(0, idx_all.size, chunk):
+            idx = idx_all[i0:i0 + chunk]
+            f_c = np.full(idx.size, fj)
+            p_c = np.ascontiguousarray(np.stack([b.ravel()[idx] for b in bxyz], axis=-1))
+            e_c, h_c = kernel(f_c, p_c, *packed[:-1], packed[-1], medium.n_thz)
+            k = 2 * np.pi * fj * medium.n_thz / c
+            pref = (radiation_prefactor(f_c, medium, None)
+                    * np.exp(1j * k * np.linalg.norm(p_c, axis=-1)))
+            e[idx] += pref[:, None] * e_c
+            h[idx] += (pref / (2j * np.pi * f_c * mu_0))[:, None] * h_c
+
+
 def field_at(filaments, freq, points, medium: Medium | None = None,
-             plasma: Plasma | None = None, *, compiled: bool = True,
+             plasma: Plasma | ColumnPlasma | None = None, *, compiled: bool = True,
              memory_budget: float = DEFAULT_MEMORY_BUDGET) -> np.ndarray:
     """Electric field spectrum E(w) of filaments at points at finite distance (V s / m).
 
@@ -247,8 +300,10 @@ def field_at(filaments, freq, points, medium: Medium | None = None,
         Field points (m); closer than 1/100 wavelength to a column raises ValueError.
     medium : Medium, optional
         Defaults to vacuum.
-    plasma : Plasma, optional
-        Sets the current spectrum; without it I(w) = 1 A s.
+    plasma : Plasma or ColumnPlasma, optional
+        Sets the current spectrum (each column's group index); without it I(w) = 1 A s. A
+        ColumnPlasma that varies along a column is resampled per frequency (error bound in
+        :mod:`thzarray.source.column_plasma`).
     compiled : bool
         Numba kernel (default) or its numpy twin.
     memory_budget : float
@@ -275,7 +330,7 @@ def field_at(filaments, freq, points, medium: Medium | None = None,
 
 
 def magnetic_field_at(filaments, freq, points, medium: Medium | None = None,
-                      plasma: Plasma | None = None, *, compiled: bool = True,
+                      plasma: Plasma | ColumnPlasma | None = None, *, compiled: bool = True,
                       memory_budget: float = DEFAULT_MEMORY_BUDGET) -> np.ndarray:
     """Magnetic field spectrum H(w) of filaments at points at finite distance (A s / m).
 
