@@ -8,13 +8,13 @@ from scipy.stats import uniform
 
 from thzarray import Direction, Medium, Pulse, far_field
 from thzarray.air.indices import ciddor_group_index
+from thzarray.app.commands.bench import sheet_csv as bench_sheet_csv
 from thzarray.array.gain import array_gain
 from thzarray.array.layouts import grid, line, with_delays
 from thzarray.array.steering import steering_delays
 from thzarray.array.tolerance import tolerance
 from thzarray.inverse.bench import (
     bench_sheet,
-    bench_sheet_csv,
     echelon_steps,
     rounding_gain,
     stage_position,
@@ -217,7 +217,7 @@ def test_ramp_step_and_csv():
     assert table.shape == (5, len(header))
     assert_allclose(table[:, header.index("stage_position_m")], s.stage.setting, rtol=1e-9)
     assert_allclose(table[:, header.index("plate_gdd_s2")], s.gdd, rtol=1e-9)
-    assert "step height" in text and "q/sqrt(12)" in text
+    assert "step height" in text and "rounding error rms" in text
 
 
 def test_bad_input_is_refused():
@@ -235,5 +235,16 @@ def test_bad_input_is_refused():
         echelon_steps([0, 1e-12], incidence=1.6)
     with pytest.raises(ValueError, match="spectral_weight"):
         rounding_gain(1e-15, 3, [1e12, 2e12], spectral_weight=[1.0])
-    with pytest.raises(ValueError, match="sheet"):
-        bench_sheet_csv("sheet")
+
+def test_sheet_without_a_pulse_gives_positions_and_leaves_beam_effects_unknown():
+    # Stage position x = c t / (passes n_g) needs only the wavelength (common practice, no
+    # source: a retroreflector doubles the path); the plate lengthening needs the duration.
+    t = np.array([0.0, 1e-12, 2e-12])
+    s = bench_sheet(t, None, [1e12], wavelength=800e-9, duration=50e-15,
+                    stage_resolution=0.0)
+    assert_allclose(s.stage.setting, c * t / (2 * NG_AIR), rtol=1e-12)
+    assert np.all(s.duration >= 50e-15) and np.all(np.isnan(s.power_ratio))
+    text = bench_sheet_csv(s)
+    assert "effect on P/P_cr and the column needs [laser]" in text
+    bare = bench_sheet(t, None, [1e12])
+    assert np.all(np.isnan(bare.duration))

@@ -164,27 +164,41 @@ def test_units_and_plain_si_agree():
 # command also names the target, band and delays it used, and its notes and warnings.
 _PHASING = {"target", "band_hz", "band_from", "delays_s", "delays_from"}
 _ALWAYS = {"notes", "warnings"}
+# Commands that print absolute numbers say how far they can be trusted.
+_SCALE = {"energy_factor", "range_low_factor", "range_high_factor", "scale_from"}
 JSON_KEYS = {
     "check": {"design", "valid", "filaments", "grid_points"} | _PHASING | _ALWAYS,
     "pattern": {"design", "files", "captions", "freq_hz", "cone_angle_deg",
-                "peak_energy_density", "energy_density_unit", "group_index"}
-               | _PHASING | _ALWAYS,
+                "peak_energy_density", "energy_density_unit", "group_index", "energy_unit"}
+               | _SCALE | _PHASING | _ALWAYS,
     "steer": {"design", "files", "captions", "method", "main_lobe_deg", "pointing_error_deg",
               "beam_width_deg", "peak_sidelobe_db", "grating_lobes", "cone_level_db",
               "report_notes"} | _PHASING | _ALWAYS,
     "compare": {"design", "files", "captions", "count", "single", "incoherent",
                 "incoherent_mc", "incoherent_mc_error", "phased", "ideal", "coherent_limit",
                 "unit", "phased_over_single", "incoherent_over_single", "phased_over_ideal",
-                "trials"} | _PHASING | _ALWAYS,
+                "trials", "phased_low", "phased_high", "energy_unit"}
+               | _SCALE | _PHASING | _ALWAYS,
     "tolerance": {"design", "files", "captions", "mean", "std", "standard_error",
                   "percentile", "percentile_value", "expected_mean", "trials",
                   "timing_jitter_s", "transverse_error_m", "longitudinal_error_m"}
                  | _PHASING | _ALWAYS,
     "map": {"design", "files", "captions", "plane_distance_m", "near_field_peak",
-            "far_field_peak", "near_over_far_peak", "energy_unit"} | _PHASING | _ALWAYS,
+            "far_field_peak", "near_over_far_peak", "energy_unit"}
+           | _SCALE | _PHASING | _ALWAYS,
     "budget": {"design", "files", "captions", "range_m", "relative_humidity", "energy",
-               "far_field_energy", "far_field_error", "absorption_db", "theta_rad",
-               "phi_rad", "direction_from", "energy_unit"} | _PHASING | _ALWAYS,
+               "energy_low", "energy_high", "far_field_energy", "far_field_error",
+               "absorption_db", "theta_rad", "phi_rad", "direction_from", "energy_unit",
+               "snr", "unit_snr_range_m"} | _SCALE | _PHASING | _ALWAYS,
+    "waveform": {"design", "files", "captions", "range_m", "theta_rad", "phi_rad",
+                 "direction_from", "polarization", "polarization_from", "peak_field",
+                 "peak_field_low", "peak_field_high", "field_unit", "peak_retardation_rad",
+                 "ringing_fraction", "eo_snr", "crystal", "energy_unit"}
+                | _SCALE | _PHASING | _ALWAYS,
+    "bench": {"design", "files", "captions", "delays_s", "wavelength_m", "air_group_index",
+              "passes", "glass", "glass_source", "glass_group_index", "echelon_step_m",
+              "delay_stage", "glass_plate", "stepped_mirror", "plate_gdd_s2",
+              "duration_after_plate_s", "power_ratio_after_plate"} | _PHASING | _ALWAYS,
 }
 
 

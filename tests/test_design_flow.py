@@ -3,6 +3,7 @@ the same target, band and delays everywhere, notes and warnings in every output,
 whose errors say how a value was read."""
 import json
 import tomllib
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -10,6 +11,8 @@ import pytest
 from thzarray.app.cli import main
 from thzarray.app.design import SCHEMA, design_to_toml, load_design
 from thzarray.app.design.checker import GridSpec
+
+DATA = Path(__file__).parent / "data"
 
 # A design that sets every key of every section to a value that is not its default (the
 # source sections are exercised in three designs, since a design has exactly one).
@@ -24,12 +27,23 @@ pressure = "99000 Pa"
 relative_humidity = "37 %"
 co2 = "420 ppm"
 laser_wavelength = "790 nm"
+line_list = "lines.par"
 [plasma]
 electron_density = "2e16 cm^-3"
 collision_rate = "3e12 1/s"
 pulse_duration = "60 fs"
 peak_intensity = "4e13 W/cm^2"
 radius = "40 um"
+[source]
+kind = "two-colour"
+polarization = [0, 1, -0.01]
+relative_phase = "45 deg"
+dephasing_length = "4 cm"
+driver = "air"
+group_index = 1.0004
+plasma_z = ["0 cm", "6 cm", "12 cm"]
+plasma_density = ["1e16 cm^-3", "2e16 cm^-3", "1e16 cm^-3"]
+plasma_collision_rate = ["2e12 1/s", "3e12 1/s", "2e12 1/s"]
 [layout]
 kind = "ring"
 count = 5
@@ -69,6 +83,9 @@ bandwidth = "15 GHz"
 polarization = [0, 1, 0]
 beam_waist = "4 mm"
 band_points = 7
+nep = "2e-10 W/Hz^0.5"
+integration_time = "0.3 s"
+repetition_rate = "1 kHz"
 [plane]
 distance = "0.8 m"
 normal = [0, 0.1, 1]
@@ -80,6 +97,38 @@ ranges = ["1 m", "3 m"]
 relative_humidity = ["10 %", "90 %"]
 theta = "6 deg"
 phi = "10 deg"
+[waveform]
+ranges = ["2 m", "20 m"]
+duration = "40 ps"
+bandwidth = "3 THz"
+theta = "5 deg"
+phi = "15 deg"
+polarization = [0, 1, 0]
+crystal = "GaP"
+thickness = "0.3 mm"
+probe_wavelength = "1030 nm"
+probe_duration = "100 fs"
+probe_energy = "5 nJ"
+integration_time = "50 ms"
+repetition_rate = "10 kHz"
+[calibration]
+kind = "energy"
+energy = "3 fJ"
+range = "1.2 m"
+uncertainty = "12 %"
+model_uncertainty = "5 %"
+[split]
+counts = [1, 2, 3]
+family = "line"
+spacing = "4 mm"
+efficiency = "80 %"
+[bench]
+glass = "CaF2"
+passes = 4
+stage_resolution = "0.5 um"
+thickness_resolution = "5 um"
+step_resolution = "2 um"
+incidence = "10 deg"
 [outputs]
 formats = ["pdf", "netcdf"]
 """
@@ -125,6 +174,7 @@ def _variant(name, tmp_path):
                             'relative_humidity = "37 %"\nco2 = "420 ppm"\n'
                             'laser_wavelength = "790 nm"\n',
                             'kind = "custom"\nn_group = 1.0003\nn_thz = 1.0004\n')
+        text = text.replace('line_list = "lines.par"\n', "")
         text = text.replace('method = "phase-only"\ndesign_freq = "0.35 THz"\n',
                             'method = "optimise"\nmax_delay = "3 ps"\n')
         text = text.replace('kind = "narrowband"', 'kind = "broadband"').replace(
@@ -148,13 +198,21 @@ def _variant(name, tmp_path):
             "x_mm,y_mm,delay_ps\n" + "".join(f"{i},0,0\n" for i in range(6)))
         text = text.replace(_LAYOUT, '[layout]\nkind = "csv"\ncsv = "positions.csv"\n'
                                      'length = "25 mm"\n')
+    elif name == "peak-field calibration":
+        text = text.replace('kind = "energy"\nenergy = "3 fJ"', 'kind = "peak_field"\n'
+                            'peak_field = "250 V/m"')
+    elif name == "amplitude calibration":
+        text = text.replace('kind = "energy"\nenergy = "3 fJ"\nrange = "1.2 m"',
+                            'kind = "amplitude"\namplitude = 0.7')
     path = tmp_path / "design.toml"
     path.write_text(text)
+    (tmp_path / "lines.par").write_text((DATA / "hitran_synthetic.par").read_text())
     return path
 
 
 VARIANTS = ["full", "filament", "laser", "custom medium, optimised, broadband",
-            "grid, narrowband area", "hexagonal", "random", "csv"]
+            "grid, narrowband area", "hexagonal", "random", "csv", "peak-field calibration",
+            "amplitude calibration"]
 
 
 def test_the_variants_set_every_key_to_a_non_default_value(tmp_path):

@@ -29,7 +29,10 @@ from thzarray.air.absorption import (
                                      oxygen_attenuation,
                                      water_vapour_attenuation,
 )
+from thzarray.air.hitran import LineList, parse_hitran
 from thzarray.air.medium import AirConditions, Medium
+from thzarray.air.refractivity import complex_index
+from thzarray.air.transmission import air_transmission, line_transmission
 from thzarray.array import layouts
 from thzarray.array.arrayfield import array_factor, array_far_field, factored_far_field
 from thzarray.array.beam import (
@@ -59,6 +62,20 @@ from thzarray.array.targets import Aperture, Direction
 from thzarray.array.tolerance import ToleranceResult, tolerance
 from thzarray.base.geometry import unit_vectors
 from thzarray.detect.budget import RangeBudget, range_budget
+from thzarray.detect.calibration import (
+                                     Calibration,
+                                     calibrate_amplitude,
+                                     calibrate_energy,
+                                     calibrate_field,
+)
+from thzarray.detect.electrooptic import (
+                                     GAP,
+                                     ZNTE,
+                                     EOCrystal,
+                                     eo_response,
+                                     eo_trace,
+)
+from thzarray.detect.noise import eo_signal_to_noise, signal_to_noise
 from thzarray.detect.receivers import (
                                      BroadbandDetector,
                                      NarrowbandReceiver,
@@ -67,6 +84,8 @@ from thzarray.detect.receivers import (
                                      surface_degree_of_radial_polarization,
                                      surface_polarization,
 )
+from thzarray.detect.traces import RangeWaveforms, range_waveforms
+from thzarray.detect.waveform import Waveform, waveform
 from thzarray.field.cone import (
                                      ConeRange,
                                      band_cone_angle,
@@ -96,9 +115,30 @@ from thzarray.field.surfaces import (
                                      plane_scan,
                                      sphere_scan,
 )
-from thzarray.inverse.focusing import FocusingChart, focusing_chart, focusing_for_cone
+from thzarray.inverse.bench import (
+                                     BenchSheet,
+                                     DelaySetting,
+                                     bench_sheet,
+                                     echelon_steps,
+                                     rounding_gain,
+                                     stage_position,
+)
+from thzarray.inverse.focusing import (
+                                     ConeFocusing,
+                                     FocusingChart,
+                                     focusing_chart,
+                                     focusing_for_cone,
+)
+from thzarray.inverse.glass import (
+                                     GLASSES,
+                                     Glass,
+                                     plate_thickness,
+                                     stretched_duration,
+)
 from thzarray.inverse.leastsq import FitResult
 from thzarray.inverse.scans import fit_delay_scan, fit_scan
+from thzarray.inverse.split import SplitStudy, split_study
+from thzarray.source.column_plasma import ColumnPlasma
 from thzarray.source.filament import Filament
 from thzarray.source.laser import (
                                      FilamentationModel,
@@ -108,11 +148,29 @@ from thzarray.source.laser import (
                                      critical_power,
                                      plasma_from_laser,
 )
-from thzarray.source.plasma import Plasma
+from thzarray.source.plasma import (
+                                     Plasma,
+                                     critical_density,
+                                     finite_radius_note,
+                                     plasma_group_index_shift,
+)
+from thzarray.source.spread import EnergyRange, energy_range
+from thzarray.source.twocolour import (
+                                     TwoColourProfile,
+                                     dephasing_length,
+                                     phase_matched_angle,
+                                     two_colour_profile,
+                                     two_colour_samples,
+)
 
 __all__ = [
     "__version__",
     # air
+    "LineList",
+    "air_transmission",
+    "complex_index",
+    "line_transmission",
+    "parse_hitran",
     "AirConditions",
     "Medium",
     "attenuate",
@@ -120,6 +178,17 @@ __all__ = [
     "oxygen_attenuation",
     "water_vapour_attenuation",
     # source
+    "ColumnPlasma",
+    "EnergyRange",
+    "TwoColourProfile",
+    "critical_density",
+    "dephasing_length",
+    "energy_range",
+    "finite_radius_note",
+    "phase_matched_angle",
+    "plasma_group_index_shift",
+    "two_colour_profile",
+    "two_colour_samples",
     "Filament",
     "FilamentationModel",
     "Plasma",
@@ -186,6 +255,21 @@ __all__ = [
     "tolerance",
     "with_delays",
     # detect
+    "Calibration",
+    "EOCrystal",
+    "GAP",
+    "RangeWaveforms",
+    "Waveform",
+    "ZNTE",
+    "calibrate_amplitude",
+    "calibrate_energy",
+    "calibrate_field",
+    "eo_response",
+    "eo_signal_to_noise",
+    "eo_trace",
+    "range_waveforms",
+    "signal_to_noise",
+    "waveform",
     "BroadbandDetector",
     "NarrowbandReceiver",
     "RangeBudget",
@@ -195,6 +279,19 @@ __all__ = [
     "surface_degree_of_radial_polarization",
     "surface_polarization",
     # inverse
+    "BenchSheet",
+    "ConeFocusing",
+    "DelaySetting",
+    "GLASSES",
+    "Glass",
+    "SplitStudy",
+    "bench_sheet",
+    "echelon_steps",
+    "plate_thickness",
+    "rounding_gain",
+    "split_study",
+    "stage_position",
+    "stretched_duration",
     "FitResult",
     "FocusingChart",
     "fit_delay_scan",

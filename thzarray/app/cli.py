@@ -15,7 +15,9 @@ from pathlib import Path
 
 from thzarray._version import __version__
 from thzarray.app.commands.array import cmd_compare, cmd_steer, cmd_sweep, cmd_tolerance
+from thzarray.app.commands.bench import cmd_bench, cmd_split
 from thzarray.app.commands.common import SAFETY, SAFETY_SHORT, UsageError
+from thzarray.app.commands.detection import cmd_waveform
 from thzarray.app.commands.filament import (
     cmd_check,
     cmd_cone,
@@ -105,7 +107,13 @@ def build_parser() -> argparse.ArgumentParser:
                                 "humidity (exact field, far-field error beside it)",
                  ["thzarray budget designs/lab_receiver.toml --json"], cmd_budget, design)
     p.add_argument("--toward", help=toward)
-
+    p = _command(sub, "waveform", "E(t), the electro-optic trace and the spectrum at the "
+                                  "design's ranges through its air, with their SNR",
+                 ["thzarray waveform designs/two_colour_grid.toml --out results"],
+                 cmd_waveform, design,
+                 note="Settings: [waveform] (ranges, time window, crystal, probe); a "
+                      "[calibration] makes the fields absolute.")
+    p.add_argument("--toward", help=toward)
 
     p = _command(sub, "steer", "delays that steer a layout toward a target, with the lobe "
                                "report and maps",
@@ -135,6 +143,23 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--band", help=band)
     p.add_argument("--jitter", help="rms timing jitter, e.g. '0.3 ps' (default: "
                                     "[tolerance].timing_jitter)")
+
+    p = _command(sub, "split", "how many beams to split the laser into: energy into the target "
+                               "versus N, incoherent and phased",
+                 ["thzarray split designs/laser_array.toml"], cmd_split, design,
+                 note="Needs [laser] (the whole pulse is split); [split] sets the counts, "
+                      "family, spacing and efficiency (family and spacing default to the "
+                      "[layout]).")
+    p.add_argument("--toward", help=toward)
+
+    p = _command(sub, "bench", "stage positions, glass-plate thicknesses and stepped-mirror "
+                               "depths that realise the delays, with the error they leave",
+                 ["thzarray bench designs/grid_steering.toml",
+                  "thzarray bench designs/laser_array.toml --toward '5 deg,0 deg'"],
+                 cmd_bench, design,
+                 note="Uses the delays every command uses (stored [steering].delays, else "
+                      "computed); [bench] sets the glass, passes and resolutions.")
+    p.add_argument("--toward", help=toward)
 
     p = _command(sub, "fit", "fit a measured angular scan: effective length, mismatch, "
                              "amplitude, background",

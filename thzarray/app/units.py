@@ -42,6 +42,8 @@ DIMENSIONS = {
     "power": ("[length]**2*[mass]/[time]**3", "W", "10 GW"),
     "area": ("[length]**2", "m^2", "1 cm^2"),
     "n2": ("[time]**3/[mass]", "m^2/W", "3.2e-19 cm^2/W"),
+    "nep": ("[length]**2*[mass]/[time]**2.5", "W/Hz^0.5", "1e-10 W/Hz^0.5"),
+    "field": ("[length]*[mass]/[current]/[time]**3", "V/m", "300 V/m"),
     "number": ("", "", "1.5"),
 }
 
@@ -67,6 +69,8 @@ _SUGGEST = {
     "power": ("GW", "MW", "TW"),
     "area": ("mm^2", "cm^2"),
     "n2": ("cm^2/W",),
+    "nep": ("nW/Hz^0.5", "pW/Hz^0.5"),
+    "field": ("kV/m", "V/cm"),
 }
 
 _NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
@@ -85,7 +89,8 @@ def _short(value) -> str:
     return text if len(text) <= 60 else text[:57] + "..."
 
 
-_NAMES = {"n2": "Kerr index (area per power)", "rate": "rate (per time)",
+_NAMES = {"n2": "Kerr index (area per power)", "nep": "noise-equivalent power",
+          "field": "field strength", "rate": "rate (per time)",
           "density": "density (per volume)", "intensity": "intensity (power per area)"}
 
 

@@ -141,7 +141,8 @@ def _alpha(freq, medium, lines):
 
 def range_budget(filaments, receiver, freq, ranges, theta, phi=0.0,
                  medium: Medium | None = None, relative_humidity=None,
-                 plasma: Plasma | None = None, lines: LineList | None = None) -> RangeBudget:
+                 plasma: Plasma | None = None, lines: LineList | None = None,
+                 energy_factor: float = 1.0) -> RangeBudget:
     """Energy into a receiver versus range and humidity (exact field + P.676 absorption).
 
     Parameters
@@ -165,6 +166,9 @@ def range_budget(filaments, receiver, freq, ranges, theta, phi=0.0,
         Absolute current spectrum; without it energies are per (A s)^2.
     lines : LineList, optional
         A HITRAN-format line list for the absorption above 1 THz.
+    energy_factor : float
+        A calibration's factor k on every energy (:mod:`thzarray.detect.calibration`),
+        > 0; the SNR and its unit range use the calibrated energies.
 
     Returns
     -------
@@ -186,6 +190,7 @@ def range_budget(filaments, receiver, freq, ranges, theta, phi=0.0,
     dist = as_float_array("ranges", ranges, low=0.0, low_open=True, unit="m").reshape(-1)
     th = check_scalar("theta", theta, low=0.0, high=np.pi, unit="rad")
     ph = check_scalar("phi", phi, unit="rad")
+    k = check_scalar("energy_factor", energy_factor, low=0.0, low_open=True)
     if relative_humidity is None:
         media = [medium]
         rh = np.array([np.nan if medium.conditions is None
@@ -201,7 +206,7 @@ def range_budget(filaments, receiver, freq, ranges, theta, phi=0.0,
                                 np.empty((rh.size, f.size)))
     per = []
     for i, med in enumerate(media):
-        scale = 2 * med.n_thz * epsilon_0 * c
+        scale = 2 * med.n_thz * epsilon_0 * c * k
         ff = far_field(fils, f, th, ph, med, plasma).cartesian  # (F, 3)
         far_per = scale * _receiver_factor(receiver, f, ff, rhat)  # (F,)
         per.append(far_per)

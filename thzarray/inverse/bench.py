@@ -72,7 +72,6 @@ __all__ = [
     "BenchSheet",
     "DelaySetting",
     "bench_sheet",
-    "bench_sheet_csv",
     "echelon_steps",
     "rounding_gain",
     "stage_position",
@@ -300,8 +299,8 @@ class BenchSheet:
         otherwise.
     freq : ndarray, shape (F,)
         Band of the gain figures (Hz).
-    pulse : Pulse
-        The beam's pulse before the plate.
+    pulse : Pulse or None
+        The beam's pulse before the plate (None: not given).
     """
 
     delays: np.ndarray
@@ -321,7 +320,7 @@ class BenchSheet:
     incidence: float
     echelon_step: float
     freq: np.ndarray
-    pulse: Pulse
+    pulse: Pulse | None
 
     @property
     def count(self) -> int:
@@ -346,11 +345,12 @@ def _ramp_step(t):
     return abs(step)
 
 
-def bench_sheet(delays, pulse: Pulse, freq, *, spectral_weight=None, glass="fused_silica",
-                medium: Medium | None = None, model: FilamentationModel | None = None,
-                passes: int = 2, stage_resolution: float = 1e-6,
-                thickness_resolution: float = 10e-6, step_resolution: float = 1e-6,
-                incidence: float = 0.0) -> BenchSheet:
+def bench_sheet(delays, pulse: Pulse | None, freq, *, spectral_weight=None,
+                glass="fused_silica", medium: Medium | None = None,
+                model: FilamentationModel | None = None, passes: int = 2,
+                stage_resolution: float = 1e-6, thickness_resolution: float = 10e-6,
+                step_resolution: float = 1e-6, incidence: float = 0.0,
+                wavelength: float = 800e-9, duration: float | None = None) -> BenchSheet:
     """The bench settings that realise a design's delays, and what their rounding costs.
 
     Parameters
@@ -358,8 +358,10 @@ def bench_sheet(delays, pulse: Pulse, freq, *, spectral_weight=None, glass="fuse
     delays : array_like, shape (N,)
         The design's delays (s), e.g. ``design_steering(...).delays``; taken relative to
         the smallest.
-    pulse : Pulse
-        One beam's pulse (after any split) before the plate.
+    pulse : Pulse or None
+        One beam's pulse (after any split) before the plate; None when only the wavelength
+        (and perhaps the duration) is known: the plates' effect on P/P_cr and the column is
+        then not computed (NaN).
     freq : array_like, shape (F,)
         Band of the gain figures (Hz).
     spectral_weight : array_like, shape (F,), optional
@@ -375,6 +377,10 @@ def bench_sheet(delays, pulse: Pulse, freq, *, spectral_weight=None, glass="fuse
         Steps (m) of the stage, the plate thicknesses and the mirror depths, >= 0.
     incidence : float
         Angle of incidence on the stepped mirror (rad).
+    wavelength : float
+        Vacuum wavelength (m) when ``pulse`` is None (else the pulse's).
+    duration : float, optional
+        Pulse FWHM (s) when ``pulse`` is None, for the plates' lengthening.
 
     Returns
     -------
@@ -382,9 +388,14 @@ def bench_sheet(delays, pulse: Pulse, freq, *, spectral_weight=None, glass="fuse
     """
     t = _check_delays(delays)
     t = t - t.min()
-    pulse = check_pulse(pulse)
+    if pulse is None:
+        wl = check_scalar("wavelength", wavelength, low=0.2e-6, high=5e-6, unit="m")
+        tau0 = (np.nan if duration is None else
+                check_scalar("duration", duration, low=1e-15, high=1e-9, unit="s"))
+    else:
+        pulse = check_pulse(pulse)
+        wl, tau0 = pulse.wavelength, pulse.duration
     g = as_glass(glass)
-    wl = pulse.wavelength
     ng_air = air_group_index(wl, medium)
     ng_glass = float(group_index(g, wl))
     p = check_count("passes", passes, low=1)
@@ -411,8 +422,12 @@ def bench_sheet(delays, pulse: Pulse, freq, *, spectral_weight=None, glass="fuse
     step = float(_round_to(c * ramp / cos2, r)) if np.isfinite(ramp) else np.nan
 
     gdd = group_delay_dispersion(g, wl, d)
-    tau = stretched_duration(pulse.duration, gdd)
+    tau = np.full(t.size, np.nan) if np.isnan(tau0) else stretched_duration(tau0, gdd)
     ratio, length, onset = np.empty(t.size), np.zeros(t.size), np.full(t.size, np.nan)
+    if pulse is None:
+        nan = np.full(t.size, np.nan)
+        return BenchSheet(t, wl, ng_air, stage, plate, echelon, p, g, ng_glass, gdd, tau, nan,
+                          nan, nan, alpha, step, freq, None)
     model = FilamentationModel() if model is None else model
     p_cr = model.critical_power(wl)
     for i, tau_i in enumerate(tau):
@@ -423,58 +438,3 @@ def bench_sheet(delays, pulse: Pulse, freq, *, spectral_weight=None, glass="fuse
             length[i], onset[i] = made[2].length, made[2].onset
     return BenchSheet(t, wl, ng_air, stage, plate, echelon, p, g, ng_glass, gdd, tau, ratio,
                       length, onset, alpha, step, freq, pulse)
-
-
-_CSV_COLUMNS = ("filament", "delay_s", "stage_position_m", "stage_error_s",
-                "plate_thickness_m", "plate_error_s", "plate_gdd_s2", "duration_s",
-                "power_ratio", "column_length_m", "column_onset_m", "mirror_depth_m",
-                "mirror_error_s")
-
-
-def _cell(v) -> str:
-    return "" if not np.isfinite(v) else f"{float(v):.10g}"
-
-
-def bench_sheet_csv(sheet: BenchSheet) -> str:
-    """The sheet as CSV text: '#' lines with the set-up and the gains, then one row per filament.
-
-    Returns
-    -------
-    str
-        Header ``filament,delay_s,stage_position_m,...,mirror_error_s``; SI units named in
-        the column titles; an empty cell where a beam makes no column.
-    """
-    if not isinstance(sheet, BenchSheet):
-        raise ValueError(f"sheet = {type(sheet).__name__}; allowed: a BenchSheet")
-    s = sheet
-    f = s.freq
-    lines = [
-        f"# bench settings for {s.count} filaments; wavelength {s.wavelength:.6g} m; air group "
-        f"index {s.air_group_index:.8f}; band {f[0]:.6g} to {f[-1]:.6g} Hz ({f.size} samples)",
-        f"# pulse per beam: energy {s.pulse.energy:.6g} J, FWHM {s.pulse.duration:.6g} s",
-        f"# glass: {s.glass.name} ({s.glass.source}); group index {s.glass_group_index:.6f}",
-    ]
-    for d in (s.stage, s.plate, s.echelon):
-        lines.append(
-            f"# {d.device}: resolution {d.resolution:.6g} m = delay step q {d.quantum:.6g} s; "
-            f"rounding error rms q/sqrt(12) = {d.rms_error:.6g} s, largest here "
-            f"{np.max(np.abs(d.error)):.6g} s; gain kept: expected {d.expected_gain:.6f}, "
-            f"with these settings {d.realised_gain:.6f}")
-    lost = int(np.sum(s.column_length == 0))
-    lines.append(
-        f"# glass plate effect on the beams: FWHM {s.duration.min():.6g} to "
-        f"{s.duration.max():.6g} s, P/P_cr {s.power_ratio.min():.6g} to "
-        f"{s.power_ratio.max():.6g}, column length {s.column_length.min():.6g} to "
-        f"{s.column_length.max():.6g} m" + (f"; {lost} of {s.count} beams make no column" if lost else ""))
-    lines.append(f"# set-up: the delay stage's travel is crossed {s.passes} times; stepped "
-                 f"mirror at incidence {s.incidence:.6g} rad, " + (
-                     f"linear ramp, step height {s.echelon_step:.6g} m"
-                     if np.isfinite(s.echelon_step) else "delays not a linear ramp"))
-    lines.append(",".join(_CSV_COLUMNS))
-    for i in range(s.count):
-        vals = (s.delays[i], s.stage.setting[i], s.stage.error[i], s.plate.setting[i],
-                s.plate.error[i], s.gdd[i], s.duration[i], s.power_ratio[i],
-                s.column_length[i], s.column_onset[i], s.echelon.setting[i],
-                s.echelon.error[i])
-        lines.append(",".join([str(i)] + [_cell(v) for v in vals]))
-    return "\n".join(lines) + "\n"

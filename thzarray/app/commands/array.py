@@ -130,6 +130,9 @@ def cmd_compare(args):
         raise UsageError(f"--trials: {args.trials} is not allowed; allowed: 2 to 100000")
     g, phased = jobs.compare(design, toward(args), band_flag(args), trials=args.trials,
                              seed=args.seed)
+    scale = jobs.absolute_scale(design, phased)
+    k = scale.factor
+    unit = g.unit if scale.absolute else f"{g.unit} per (A s)^2"
     labels = ["single", "incoherent", "phased", f"ideal N^2 (N={g.count})"]
     values = [1.0, g.incoherent_over_single, g.phased_over_single, g.ideal / g.single]
     title = f"{design.name}: gain over one filament"
@@ -145,12 +148,14 @@ def cmd_compare(args):
                                                               title), caption)],
                       tables=[(f"{slug_of(design.name)}_gains",
                                "case,energy,over_single\n" + "".join(
-                                   f"{lab},{v * g.single:.9g},{v:.9g}\n"
+                                   f"{lab},{k * v * g.single:.9g},{v:.9g}\n"
                                    for lab, v in zip(labels, values)))], captions=captions)
-    summary = {"design": design.name, "count": g.count, "single": g.single,
-               "incoherent": g.incoherent, "incoherent_mc": g.incoherent_mc,
-               "incoherent_mc_error": g.incoherent_mc_error, "phased": g.phased, "ideal": g.ideal,
-               "coherent_limit": g.coherent_limit, "unit": g.unit,
+    summary = {"design": design.name, "count": g.count, "single": k * g.single,
+               "incoherent": k * g.incoherent, "incoherent_mc": k * g.incoherent_mc,
+               "incoherent_mc_error": k * g.incoherent_mc_error, "phased": k * g.phased,
+               "phased_low": scale.low * k * g.phased, "phased_high": scale.high * k * g.phased,
+               "ideal": k * g.ideal, "coherent_limit": k * g.coherent_limit, "unit": unit,
+               **scale.summary(),
                "phased_over_single": g.phased_over_single,
                "incoherent_over_single": g.incoherent_over_single,
                "phased_over_ideal": g.phased_over_ideal, "trials": g.trials,
@@ -158,8 +163,10 @@ def cmd_compare(args):
     emit(args, summary, f"{design.name}: single 1, incoherent {g.incoherent_over_single:.3g} "
                         f"(Monte Carlo {g.incoherent_mc / g.single:.3g} +- "
                         f"{g.incoherent_mc_error / g.single:.2g}), phased "
-                        f"{g.phased_over_single:.4g}, ideal N^2 {g.ideal / g.single:.4g}\n"
-                        f"{phased.describe()}", design_notes(design, "compare"))
+                        f"{g.phased_over_single:.4g}, ideal N^2 {g.ideal / g.single:.4g}; phased "
+                        f"{scale.energy_text(k * g.phased, unit)}\n{phased.describe()}",
+         design_notes(design, "compare")
+         + ([f"absolute scale: {scale.source}"] if scale.absolute else []))
     return 0
 
 

@@ -147,7 +147,8 @@ def cmd_pattern(args):
                       for a, f in zip(summary["cone_angle_deg"], summary["freq_hz"]))
     emit(args, summary, f"{design.name}: cone {cones}; wrote {len(summary['files'])} files "
                         f"to {args.out}\ndelays: {pat.phased.how}",
-         design_notes(design, "pattern"))
+         design_notes(design, "pattern")
+         + ([f"absolute scale: {pat.scale.source}"] if pat.scale.absolute else []))
     return 0
 
 

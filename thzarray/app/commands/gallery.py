@@ -12,6 +12,7 @@ import html
 from pathlib import Path
 
 from thzarray.app.commands.array import cmd_compare, cmd_steer, cmd_tolerance
+from thzarray.app.commands.bench import cmd_bench, cmd_split
 from thzarray.app.commands.common import (
     SAFETY,
     SAFETY_SHORT,
@@ -21,6 +22,7 @@ from thzarray.app.commands.common import (
     say,
     silenced,
 )
+from thzarray.app.commands.detection import cmd_waveform
 from thzarray.app.commands.filament import cmd_focus, cmd_pattern
 from thzarray.app.commands.receiver import cmd_budget, cmd_map
 
@@ -36,10 +38,16 @@ def jobs_for(design):
         jobs.append(cmd_map)
     if design.receiver is not None:
         jobs.append(cmd_budget)
+    if design.sections.waveform is not None:
+        jobs.append(cmd_waveform)
     if len(design.filaments) > 1 or design.steering is not None:
         jobs += [cmd_steer, cmd_compare]
     if design.tolerance is not None:
         jobs.append(cmd_tolerance)
+    if design.sections.split is not None and design.laser is not None:
+        jobs.append(cmd_split)
+    if design.sections.bench is not None:
+        jobs.append(cmd_bench)
     return jobs
 
 

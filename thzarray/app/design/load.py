@@ -21,6 +21,12 @@ import numpy as np
 
 from thzarray.air.medium import Medium
 from thzarray.app.design.checker import Checker, DesignError, grid_values, read_toml, suggest
+from thzarray.app.design.detection import (
+    check_calibration,
+    check_waveform,
+    line_list,
+    receiver_of,
+)
 from thzarray.app.design.schema import (
     KIND_KEYS,
     MAX_FILAMENTS,
@@ -31,6 +37,7 @@ from thzarray.app.design.schema import (
     applies,
 )
 from thzarray.app.design.sections import SECTION_TYPES, Sections
+from thzarray.app.design.source import apply_source
 from thzarray.app.files import resolve_beside
 from thzarray.base.checks import shorten
 from thzarray.source.filament import Filament
@@ -71,6 +78,8 @@ class Design:
     estimate: object = field(default=None, compare=False, repr=False)
     receiver: object = field(default=None, compare=False)
     receiver_band: np.ndarray | None = field(default=None, compare=False, repr=False)
+    lines: object = field(default=None, compare=False, repr=False)
+    source: object = field(default=None, compare=False, repr=False)
     grid: Grid = field(default=None, compare=False, repr=False)
     notes: tuple = field(default=(), compare=False)
 
@@ -361,40 +370,6 @@ def _check_steering(checker, st, filaments):
                      f"one delay per column ({len(filaments)})")
 
 
-def _receiver(checker, r, path):
-    """The receiver object and the frequencies sampling its band (None, None if absent)."""
-    from thzarray.app.tables import response_detector
-    from thzarray.detect.receivers import NarrowbandReceiver
-
-    if r.center_freq is None or r.bandwidth is None:
-        checker.problems.append("receiver: needs center_freq and bandwidth; allowed: both "
-                                "given, e.g. '0.1 THz' and '10 GHz'")
-        return None, None
-    lo, hi = r.center_freq - r.bandwidth / 2, r.center_freq + r.bandwidth / 2
-    if lo <= 0:
-        checker.problems.append(f"receiver.bandwidth: {r.bandwidth:g} Hz is not allowed; "
-                                "allowed: less than twice center_freq")
-        return None, None
-    band = np.linspace(lo, hi, r.band_points)
-    if r.kind == "broadband":
-        if r.response_csv is None:
-            checker.problems.append("receiver.response_csv: missing; allowed: a CSV file of "
-                                    "the detector's spectral response (broadband kind)")
-            return None, None
-        if r.area is None:
-            checker.problems.append("receiver.area: missing; allowed: the broadband detector's "
-                                    "effective area, e.g. '1 cm^2'")
-            return None, None
-        return _build(checker, "receiver.response_csv", response_detector,
-                      resolve_beside(r.response_csv, path), area=r.area), band
-    if (r.area is None) == (r.beam_waist is None):
-        checker.problems.append("receiver: give exactly one of area and beam_waist; allowed: "
-                                "e.g. area = '1 mm^2' or beam_waist = '5 mm'")
-        return None, None
-    return _build(checker, "receiver", NarrowbandReceiver, r.center_freq, r.bandwidth,
-                  polarization=r.polarization, area=r.area, beam_waist=r.beam_waist), band
-
-
 def _band_pair(checker, name, band):
     if band is not None and (len(band) > 2 or (len(band) == 2 and band[1] <= band[0])):
         checker.fail(name, list(band), "[low, high] with low < high, or one frequency")
@@ -456,15 +431,25 @@ def parse_design(data: dict, path: Path | None = None) -> Design:
                                         f"{', '.join(OUTPUT_FORMATS)}")
     receiver, receiver_band = (None, None)
     if sec.receiver is not None:
-        receiver, receiver_band = _receiver(checker, sec.receiver, path)
+        receiver, receiver_band = receiver_of(sec.receiver, path, checker.problems)
+    lines = line_list(sec.medium, path, checker.problems)
+    check_waveform(sec.waveform, checker.problems)
+    check_calibration(sec.calibration, sec, checker.problems)
+    source = None
+    if filaments is not None and medium is not None and not checker.problems:
+        source = apply_source(sec.source, filaments, medium, plasma, wavelength, estimate,
+                              checker.problems)
+        if source is not None:
+            filaments, plasma = source.filaments, source.plasma
+            notes += list(source.notes)
     if checker.problems:
         raise DesignError(checker.problems)
     if filaments is None or medium is None or grid is None or sec.design is None:
         raise DesignError(["design: incomplete (see the other messages)"])
     return Design(sections=sec, path=None if path is None else Path(path), medium=medium,
                   plasma=plasma, filaments=tuple(filaments), estimate=estimate,
-                  receiver=receiver, receiver_band=receiver_band, grid=grid,
-                  notes=tuple(notes))
+                  receiver=receiver, receiver_band=receiver_band, lines=lines, source=source,
+                  grid=grid, notes=tuple(notes))
 
 
 def load_design(path) -> Design:

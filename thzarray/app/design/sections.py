@@ -53,6 +53,7 @@ class Sections:
     medium: object = None
     laser: object = None
     plasma: object = None
+    source: object = None
     filament: object = None
     filaments: tuple | None = None
     layout: object = None
@@ -62,4 +63,8 @@ class Sections:
     receiver: object = None
     plane: object = None
     budget: object = None
+    waveform: object = None
+    calibration: object = None
+    split: object = None
+    bench: object = None
     outputs: object = None

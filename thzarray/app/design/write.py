@@ -16,8 +16,7 @@ from thzarray.app.units import DIMENSIONS
 
 __all__ = ["design_data", "design_to_toml"]
 
-_ORDER = ("design", "medium", "laser", "plasma", "filament", "layout", "steering",
-          "tolerance", "observe", "cone", "receiver", "plane", "budget", "outputs")
+_ORDER = tuple(SCHEMA)  # the schema's order: design, medium, laser, plasma, source, ...
 
 
 def _quantity(value, kind):

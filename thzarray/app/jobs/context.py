@@ -15,7 +15,7 @@ same way everywhere (:func:`phasing`):
 The band is ``--band``, else ``[steering].band``, else the receiver's pass band, else
 ``[cone].band``, else the observation frequencies. The target is the steering direction
 (an :class:`~thzarray.array.targets.Aperture` when ``[steering]`` gives one), else the band
-cone of the first column at azimuth 0 about its axis.
+cone of the first column (:func:`thzarray.app.jobs.cones.cone_direction`).
 """
 
 from __future__ import annotations
@@ -26,27 +26,41 @@ from dataclasses import dataclass
 import numpy as np
 
 from thzarray.app.design import Design
+from thzarray.app.jobs.cones import cone_direction
 from thzarray.array.targets import Aperture, Direction
-from thzarray.base.geometry import angles_of, unit_vectors
+from thzarray.base.geometry import unit_vectors
 
 __all__ = ["Phasing", "band_of", "phasing", "section_notes", "target_of"]
 
 # Sections each command uses; a present section a command does not use gets one line.
 _USES = {
-    "pattern": {"medium", "laser", "plasma", "steering", "observe", "cone", "outputs"},
-    "map": {"medium", "laser", "plasma", "steering", "receiver", "plane", "outputs"},
-    "budget": {"medium", "laser", "plasma", "steering", "receiver", "budget", "outputs"},
+    "pattern": {"medium", "laser", "plasma", "steering", "observe", "cone", "calibration",
+                "outputs"},
+    "map": {"medium", "laser", "plasma", "steering", "receiver", "plane", "calibration",
+            "outputs"},
+    "budget": {"medium", "laser", "plasma", "steering", "receiver", "budget", "calibration",
+               "outputs"},
+    "waveform": {"medium", "laser", "plasma", "steering", "receiver", "waveform",
+                 "calibration", "outputs"},
     "steer": {"medium", "laser", "plasma", "steering", "receiver", "cone", "observe",
               "outputs"},
     "compare": {"medium", "laser", "plasma", "steering", "receiver", "cone", "observe",
-                "outputs"},
+                "calibration", "outputs"},
+    "split": {"medium", "laser", "steering", "receiver", "cone", "observe", "layout", "split",
+              "outputs"},
+    "bench": {"medium", "laser", "plasma", "steering", "receiver", "cone", "observe",
+              "bench", "outputs"},
     "tolerance": {"medium", "laser", "plasma", "steering", "receiver", "cone", "observe",
                   "tolerance", "outputs"},
 }
-_WHO = {"tolerance": "tolerance", "receiver": "map, budget and the steering band",
-        "plane": "map", "budget": "budget", "observe": "pattern (and as the last band)",
-        "cone": "pattern (and as a band)", "steering": "every command"}
-_ALWAYS = {"design", "filament", "filaments", "layout"}
+_WHO = {"tolerance": "tolerance", "receiver": "map, budget, waveform and the "
+        "steering band", "plane": "map", "budget": "budget", "observe": "pattern (and as the "
+        "last band)", "cone": "pattern (and as a band)", "steering": "every command",
+        "waveform": "waveform (and a peak-field calibration)", "calibration": "every command "
+        "that prints absolute energies or fields", "split": "split", "bench": "bench"}
+_OPTIONAL = ("tolerance", "receiver", "plane", "budget", "observe", "cone", "waveform",
+             "calibration", "split", "bench")
+_ALWAYS = {"design", "source", "filament", "filaments", "layout"}
 
 
 def section_notes(design: Design, command: str) -> list:
@@ -55,7 +69,10 @@ def section_notes(design: Design, command: str) -> list:
     if used is None:
         return []
     notes = []
-    for name in ("tolerance", "receiver", "plane", "budget", "observe", "cone"):
+    cal = design.sections.calibration
+    if cal is not None and cal.kind == "peak_field" and "calibration" in used:
+        used = used | {"waveform"}  # the calibration's model value is a waveform's peak
+    for name in _OPTIONAL:
         if getattr(design.sections, name) is not None and name not in used | _ALWAYS:
             notes.append(f"[{name}] is not used by {command} (it is used by {_WHO[name]})")
     return notes
@@ -87,23 +104,6 @@ def band_of(design: Design, override=None):
     return np.linspace(band[0], band[-1], points), source
 
 
-def _cone_direction(design: Design, band) -> tuple:
-    """The band cone of the first column at azimuth 0 about its axis (theta, phi)."""
-    from thzarray.field.cone import band_cone_angle, cone_angle
-
-    fil = design.filaments[0]
-    if band.size == 1:
-        cone = float(cone_angle(fil.length, band[0], design.medium))
-    else:
-        cone = band_cone_angle(fil.length, band, medium=design.medium)
-    a = np.asarray(fil.axis)
-    ref = np.array([1.0, 0.0, 0.0]) if abs(a[0]) < 0.99 else np.array([0.0, 1.0, 0.0])
-    e1 = ref - (ref @ a) * a
-    e1 /= np.linalg.norm(e1)
-    theta, phi = angles_of(np.cos(cone) * a + np.sin(cone) * e1)
-    return float(theta), float(phi)
-
-
 def target_of(design: Design, band, toward=None):
     """(target, where its direction came from): a Direction, or an Aperture when the design's
     [steering] gives an aperture."""
@@ -113,7 +113,7 @@ def target_of(design: Design, band, toward=None):
     elif st is not None and st.toward is not None:
         (theta, phi), source = st.toward, "[steering].toward"
     else:
-        (theta, phi), source = _cone_direction(design, band), "the band cone at azimuth 0"
+        (theta, phi), source = cone_direction(design, band), "the band cone of the first column"
     if not 0.0 <= theta <= np.pi:
         raise ValueError(f"toward theta = {np.degrees(theta):.6g} deg is not allowed; allowed: "
                          "0 to 180 deg")

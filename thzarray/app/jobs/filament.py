@@ -13,6 +13,7 @@ import numpy as np
 
 from thzarray.app.design import Design
 from thzarray.app.design.checker import grid_values
+from thzarray.app.jobs.cones import pattern_peak
 from thzarray.app.jobs.context import Phasing, phasing
 from thzarray.field.cone import cone_angle, length_for_cone
 from thzarray.field.farfield import far_field
@@ -21,6 +22,8 @@ from thzarray.field.polarization import polarization_map
 __all__ = ["ConeChart", "PatternResult", "cone_chart", "pattern", "projected_grid"]
 
 _DEFAULT_LENGTHS = np.linspace(0.01, 2.0, 200)
+_PEAK_LENGTHS = 40
+"""Lengths of the chart when the cone is found from the pattern (two-colour, profiles)."""
 
 
 @dataclass(frozen=True, eq=False)
@@ -44,9 +47,12 @@ class ConeChart:
 
 
 def cone_chart(design: Design) -> ConeChart:
-    """Cone angle of one uniform column versus length, at the band edges and centre.
+    """Cone angle of the design's column versus length, at the band edges and centre.
 
-    The band is ``[cone].band`` (one frequency or [low, high]), else the observation
+    A uniform single-colour column uses :func:`~thzarray.field.cone.cone_angle` with the
+    design's driver group index; any other source (two-colour, profiled, plasma varying
+    along the column) the peak of its pattern (:func:`~thzarray.app.jobs.cones.pattern_peak`)
+    at 40 lengths. The band is ``[cone].band`` (one frequency or [low, high]), else the observation
     frequencies' extremes and median.
     """
     cone = design.cone
@@ -56,17 +62,46 @@ def cone_chart(design: Design) -> ConeChart:
     else:
         freqs = np.unique(np.quantile(design.grid.freq, [0.0, 0.5, 1.0]))
     lengths = _DEFAULT_LENGTHS if cone is None else grid_values(cone.lengths)
-    angles = cone_angle(lengths[None, :], freqs[:, None], design.medium)
+    n_g = design.source.group_index
     target = None if cone is None else cone.target_angle
+    if _is_plain(design):
+        angles = cone_angle(lengths[None, :], freqs[:, None], design.medium, group_index=n_g)
+    else:
+        lengths = np.geomspace(lengths.min(), lengths.max(), _PEAK_LENGTHS)
+        axis = design.filaments[0].axis
+        columns = [design.source.column(float(L), axis) for L in lengths]
+        # a plasma varying along the design's columns is not defined along other lengths:
+        # the chart uses its reference plasma
+        plasma = getattr(design.plasma, "plasma", design.plasma)
+        angles = np.array([[pattern_peak(col, np.array([f]), design.medium, plasma)
+                            for col in columns] for f in freqs])
     target_lengths = None
     if target is not None:
         target_lengths = np.full(freqs.shape, np.nan)
         for i, f in enumerate(freqs):
+            if not _is_plain(design):
+                # first length whose peak reaches the target from above (angles fall with L)
+                below = np.nonzero(angles[i] <= target)[0]
+                if below.size and below[0] > 0:
+                    j = below[0]
+                    target_lengths[i] = np.interp(target, angles[i, j - 1:j + 1][::-1],
+                                                  lengths[j - 1:j + 1][::-1])
+                continue
             try:
-                target_lengths[i] = float(length_for_cone(target, f, design.medium))
+                target_lengths[i] = float(length_for_cone(target, f, design.medium,
+                                                          group_index=n_g))
             except ValueError:
                 pass  # unreachable at this frequency: shown as a gap, stated in the summary
-    return ConeChart(lengths, freqs, angles, target, target_lengths, design.medium.n_group)
+    return ConeChart(lengths, freqs, angles, target, target_lengths, n_g)
+
+
+def _is_plain(design) -> bool:
+    """A uniform column with its current along the axis and one plasma along it."""
+    from thzarray.source.plasma import Plasma
+
+    fil = design.filaments[0]
+    return fil.is_axial and fil.is_uniform and (design.plasma is None
+                                                 or isinstance(design.plasma, Plasma))
 
 
 def projected_grid(theta_max: float, points: int):
@@ -106,6 +141,7 @@ class PatternResult:
     cone_angles: np.ndarray
     absolute: bool
     phased: Phasing
+    scale: object = None    # thzarray.app.jobs.scale.Scale (applied to the energies)
 
     def summary(self) -> dict:
         cut = self.energy_density.mean(axis=2)
@@ -114,7 +150,7 @@ class PatternResult:
             "cone_angle_deg": np.degrees(self.cone_angles).tolist(),
             "peak_energy_density": cut.max(axis=1).tolist(),
             "energy_density_unit": "J/(Hz sr)" if self.absolute else "J/(Hz sr) per (A s)^2",
-            **self.phased.summary(),
+            **self.scale.summary(), **self.phased.summary(),
         }
 
 
@@ -134,5 +170,9 @@ def pattern(design: Design, sky_points: int = 121, toward=None) -> PatternResult
     pm = polarization_map(sky_ff, axis=fils[0].axis)
     direction = pm.direction
     pol = np.stack([direction[..., 0], direction[..., 1]])
-    return PatternResult(g.freq, g.theta, g.phi, dens, x, y, sky_ff.energy_density, pol, cone,
-                         design.plasma is not None, phased)
+    from thzarray.app.jobs.scale import absolute_scale
+
+    scale = absolute_scale(design, phased)
+    return PatternResult(g.freq, g.theta, g.phi, dens * scale.factor, x, y,
+                         sky_ff.energy_density * scale.factor, pol, cone, scale.absolute,
+                         phased, scale)

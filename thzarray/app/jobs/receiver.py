@@ -48,6 +48,7 @@ class DetectorMap:
     distance: float
     absolute: bool
     phased: Phasing
+    scale: object = None    # thzarray.app.jobs.scale.Scale (applied to near and far)
 
     def summary(self) -> dict:
         def peak(m):
@@ -59,7 +60,7 @@ class DetectorMap:
                 "near_over_far_peak": float(self.near.max() / self.far.max())
                 if self.far.max() > 0 else None,
                 "energy_unit": "J" if self.absolute else "J per (A s)^2",
-                **self.phased.summary()}
+                **self.scale.summary(), **self.phased.summary()}
 
 
 def _needs(design: Design, *what):
@@ -113,19 +114,27 @@ def detector_map(design: Design, toward=None) -> DetectorMap:
         dist = np.linalg.norm(pts - np.asarray(fils[0].start), axis=-1)
         e_near = attenuate(e_near, freq[:, None, None], dist, design.medium)
         e_far = attenuate(e_far, freq[:, None, None], dist, design.medium)
-    near = _receiver_energy(design, freq, e_near, surf)
-    far = _receiver_energy(design, freq, e_far, surf)
-    return DetectorMap(x, y, freq, near, far, float(pl.distance), design.plasma is not None,
-                       phased)
+    from thzarray.app.jobs.scale import absolute_scale
+
+    scale = absolute_scale(design, phased)
+    near = _receiver_energy(design, freq, e_near, surf) * scale.factor
+    far = _receiver_energy(design, freq, e_far, surf) * scale.factor
+    return DetectorMap(x, y, freq, near, far, float(pl.distance), scale.absolute, phased,
+                       scale)
 
 
 @dataclass(frozen=True, eq=False)
 class BudgetResult:
-    """The range budget of a design and where its receiver points."""
+    """The range budget of a design and where its receiver points.
+
+    ``budget`` holds the energies with the scale's factor applied (calibrated); ``scale``
+    the factor and range every absolute number carries (:mod:`thzarray.app.jobs.scale`).
+    """
 
     budget: object          # thzarray.detect.budget.RangeBudget
     direction_from: str
     phased: Phasing
+    scale: object = None    # thzarray.app.jobs.scale.Scale
 
     def notes(self) -> list:
         """Ranges where the far-field prediction is off by more than the tolerance."""
@@ -138,29 +147,53 @@ class BudgetResult:
                 "exact finite-distance field"]
 
 
+def _budget_options(design):
+    b = design.budget
+    return dict(_DEFAULT_BUDGET) if b is None else dict(
+        ranges=grid_values(b.ranges), relative_humidity=b.relative_humidity, theta=b.theta,
+        phi=b.phi)
+
+
+def receiver_direction(section, phased):
+    """(theta, phi, where from): a section's theta/phi when given, else the target's."""
+    if section is not None and section.theta is not None:
+        name = type(section).__name__.removesuffix("Section").lower()
+        return section.theta, section.phi, f"[{name}].theta, phi"
+    return phased.target.theta, phased.target.phi, f"the target ({phased.target_source})"
+
+
+def budget_at(design: Design, phased: Phasing, distance: float) -> float:
+    """The model's energy into the receiver at one range, in the design's own air (J)."""
+    from thzarray.detect.budget import range_budget
+
+    _needs(design, "receiver")
+    theta, phi, _ = receiver_direction(design.budget, phased)
+    result = range_budget(phased.filaments, design.receiver, design.receiver_band, [distance],
+                          theta, phi, medium=design.medium, plasma=design.plasma,
+                          lines=design.lines)
+    return float(result.energy[0, 0])
+
+
 def budget(design: Design, toward=None) -> BudgetResult:
     """Range budget of the design: energy into its receiver versus range and humidity.
 
     The receiver looks along ``[budget].theta, phi`` when given, else toward the steering
-    target (the band cone when the design has no steering).
+    target (the band cone when the design has no steering). With ``[medium].line_list``
+    the lines add to P.676's above 1 THz; with the receiver's noise settings the budget has
+    signal-to-noise ratios and the range where they fall to 1.
     """
+    from thzarray.app.jobs.scale import absolute_scale
     from thzarray.detect.budget import range_budget
 
     _needs(design, "receiver")
-    b = design.budget
-    opts = dict(_DEFAULT_BUDGET) if b is None else dict(
-        ranges=grid_values(b.ranges), relative_humidity=b.relative_humidity, theta=b.theta,
-        phi=b.phi)
+    opts = _budget_options(design)
     freq = design.receiver_band
     phased = phasing(design, toward)
-    if opts["theta"] is not None:
-        theta, phi, source = opts["theta"], opts["phi"], "[budget].theta, phi"
-    else:
-        theta, phi = phased.target.theta, phased.target.phi
-        source = f"the target ({phased.target_source})"
+    theta, phi, source = receiver_direction(design.budget, phased)
     humidity = (None if design.medium.conditions is None
                 else np.asarray(opts["relative_humidity"], float))
+    scale = absolute_scale(design, phased)
     result = range_budget(phased.filaments, design.receiver, freq, opts["ranges"], theta, phi,
                           medium=design.medium, relative_humidity=humidity,
-                          plasma=design.plasma)
-    return BudgetResult(result, source, phased)
+                          plasma=design.plasma, lines=design.lines, energy_factor=scale.factor)
+    return BudgetResult(result, source, phased, scale)
