@@ -25,8 +25,9 @@ def test_cone_length_to_angle_json(capsys):
     data = json.loads(out)
     expected = cone_angle(0.30, 0.3e12, Medium.air(relative_humidity=0.5))
     assert data["cone_angle_rad"] == pytest.approx(float(expected), rel=1e-12)
-    assert set(data) == {"freq_hz", "n_group", "n_thz", "length_m", "cone_angle_rad",
-                         "cone_angle_deg", "notes", "warnings"}
+    assert set(data) == {"freq_hz", "n_group", "n_group_from", "n_thz", "length_m",
+                         "cone_angle_rad", "cone_angle_deg", "notes", "warnings"}
+    assert data["n_group_from"] == "the air's"
 
 
 def test_cone_angle_to_length_text(capsys):

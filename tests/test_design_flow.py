@@ -383,7 +383,9 @@ def test_fit_fix_takes_units_and_messages_use_cli_syntax(tmp_path, capsys):
     data = json.loads(capsys.readouterr().out)
     assert all("fixed={" not in m for m in data["messages"])
     assert any("--fix mismatch=VALUE" in m for m in data["messages"]), data["messages"]
-    assert data["notes"] == data["messages"]  # the CLI prints them as notes
+    # the CLI prints the fit's messages as notes, and what it assumed about the spectra
+    assert data["notes"][:len(data["messages"])] == data["messages"]
+    assert data["notes"][-1].startswith("the fit assumed source_spectrum")
 
 
 def test_delay_chart_jitter_and_one_frequency_band(tmp_path, capsys, array_design):

@@ -511,3 +511,51 @@ cut = {}
                         rtol=1e-10, atol=0)
         assert_allclose(ds["cut"][0, j].values, one.energy_density.mean(axis=2),
                         rtol=1e-12, atol=0)
+
+
+LASER_LINE = """\
+[design]
+name = "Laser line"
+
+[laser]
+energy = "2 mJ"
+focal_length = "1 m"
+
+[layout]
+kind = "line"
+count = 2
+spacing = "2 mm"
+
+[steering]
+toward = ["5 deg", "0 deg"]
+band = ["0.3 THz"]
+
+[split]
+counts = [1, 2, 4]
+
+[observe]
+freq = ["0.3 THz"]
+"""
+
+
+def test_split_measure_follows_the_pulse_energy(tmp_path):
+    text = """\
+[sweep]
+name = "Split"
+design = "laser.toml"
+
+[measures]
+split = {}
+
+[vary]
+"laser.energy" = ["1 mJ", "4 mJ"]
+"""
+    path = _write(tmp_path, text, LASER_LINE, "laser.toml")
+    ds = sw.run_serial(sw.load_sweep(path), tmp_path / "out", progress=False).dataset
+    ratio = ds["split_power_ratio"].values                 # (energy, count)
+    # P/P_cr per beam is proportional to the energy per beam, eta E / N (hand calculation)
+    assert_allclose(ratio[1] / ratio[0], 4.0, rtol=1e-12)
+    assert_allclose(ratio[:, 0] / ratio[:, 2], 4.0, rtol=1e-12)
+    # one beam: phased equals one column (nothing to phase)
+    assert_allclose(ds["split_phased"][:, 0], ds["split_single"][:, 0], rtol=1e-12)
+    assert ds["split_best_count"].values[1] >= ds["split_best_count"].values[0]

@@ -194,7 +194,7 @@ def water_line_parameters(p, e, theta):
 
 
 def dry_continuum_parameters(p, e, theta):
-    """Strengths of the dry continuum, eq. (8): the oxygen Debye term and the nitrogen term.
+    r"""Strengths of the dry continuum, eq. (8): the oxygen Debye term and the nitrogen term.
 
     Returns
     -------

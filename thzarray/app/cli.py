@@ -91,6 +91,11 @@ def build_parser() -> argparse.ArgumentParser:
     what.add_argument("--length", help="plasma length, e.g. '30 cm'")
     what.add_argument("--angle", help="wanted cone angle, e.g. '3 deg'")
     p.add_argument("--freq", required=True, help="frequency, e.g. '0.3 THz'")
+    driver = p.add_mutually_exclusive_group()
+    driver.add_argument("--group-index", help="the driver's group index, e.g. 1.00031 "
+                                              "(default: the air's)")
+    driver.add_argument("--electron-density", help="add the plasma's n_e/(2 n_c) to the air's "
+                                                   "group index, e.g. '1e16 cm^-3'")
     _medium_flags(p)
 
     _command(sub, "check", "validate a design file (every problem, one line each)",
@@ -177,6 +182,9 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--fix", action="append", default=[], metavar="NAME=VALUE",
                    help="hold a parameter fixed, with units, e.g. background=0 or "
                         "'length=30 cm'; repeatable")
+    p.add_argument("--electron-density", help="the column's electron density, for the "
+                                              "plasma-corrected mismatch, e.g. '1e16 cm^-3'")
+    _medium_flags(p)
 
     p = _command(sub, "focus", "pick lens and pulse energy for a target cone: cone angle at "
                                "the band versus focal length and energy",
@@ -189,6 +197,11 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--duration", default="50 fs", help="pulse duration (intensity FWHM)")
     p.add_argument("--beam-radius", default="5 mm", help="1/e^2 intensity radius at the lens")
     p.add_argument("--focal", default="0.2 m,5 m", help="focal-length range of the chart LOW,HIGH")
+    driver = p.add_mutually_exclusive_group()
+    driver.add_argument("--driver", choices=("air", "air+plasma"), default="air+plasma",
+                        help="driver's group index: the air's, or plus the laser model's "
+                             "plasma n_e/(2 n_c) (default)")
+    driver.add_argument("--group-index", help="the driver's group index, e.g. 1.00031")
     _medium_flags(p)
 
     p = _command(sub, "sweep", "parameter study over design keys and seeds on dask (local "

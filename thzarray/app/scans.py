@@ -199,7 +199,8 @@ def _cli_words(message: str) -> str:
 
 
 def fit_summary(scan, path="scan", freq=None, range_=None, *, fixed=None,
-                polarization=None, to_si=None, cli=False) -> dict:
+                polarization=None, to_si=None, cli=False, medium=None,
+                electron_density=None) -> dict:
     """Fit a parsed scan and return a JSON-ready dict (for ``thzarray fit``).
 
     Parameters
@@ -224,6 +225,10 @@ def fit_summary(scan, path="scan", freq=None, range_=None, *, fixed=None,
         :func:`thzarray.app.units.parse_quantity`.
     cli : bool
         Word the messages in command-line syntax (``--fix name=VALUE``).
+    medium : Medium, optional
+        The air of the scan (its THz index and the linear-air mismatch predicted).
+    electron_density : float, optional
+        The column's electron density (m^-3), for the plasma-corrected mismatch predicted.
 
     Returns
     -------
@@ -232,8 +237,9 @@ def fit_summary(scan, path="scan", freq=None, range_=None, *, fixed=None,
         ``fixed``, ``correlation`` (``names``, ``matrix``), ``chi2``, ``dof``,
         ``chi2_per_dof``, ``errors_scaled_by_chi2``, ``ok``, ``messages``,
         ``residuals`` (``angle_rad``, ``signal``, ``sigma``, ``model``, ``residual``) and
-        ``curve`` (the model on 400 angles spanning the scan); non-finite numbers become
-        None.
+        ``curve`` (the model on 400 angles spanning the scan), ``assumptions`` (the source and
+        detector spectra the fit assumed) and ``predicted`` (the mismatch of linear air and,
+        with an electron density, with the plasma's share); non-finite numbers become None.
     """
     angle, signal, sigma, metadata = scan
     freq = _si("freq", metadata.get("freq") if freq is None else freq, to_si, str(path))
@@ -242,7 +248,8 @@ def fit_summary(scan, path="scan", freq=None, range_=None, *, fixed=None,
                          "frequency such as '0.3 THz'")
     range_ = _si("range", metadata.get("range") if range_ is None else range_, to_si, str(path))
     result = fit_scan(angle, signal, freq, distance=range_, sigma=sigma,
-                      polarization=polarization, fixed=fixed)
+                      polarization=polarization, fixed=fixed, medium=medium,
+                      electron_density=electron_density)
     fine = np.linspace(angle.min(), angle.max(), 400)
     messages = [_cli_words(m) if cli else m for m in result.messages]
     return {
@@ -266,6 +273,8 @@ def fit_summary(scan, path="scan", freq=None, range_=None, *, fixed=None,
                       "sigma": None if sigma is None else sigma.tolist(),
                       "model": result.model.tolist(), "residual": result.residuals.tolist()},
         "curve": {"angle_rad": fine.tolist(), "model": result.evaluate(fine).tolist()},
+        "assumptions": {k: str(v) for k, v in result.assumptions.items()},
+        "predicted": {k: _json_number(v) for k, v in result.predicted.items()},
     }
 
 
@@ -281,9 +290,10 @@ def read_scan(path, to_si=None):
 
 
 def fit_command_result(path, freq=None, range_=None, *, fixed=None, polarization=None,
-                       to_si=None, cli=False) -> dict:
+                       to_si=None, cli=False, medium=None, electron_density=None) -> dict:
     """Read and fit a scan file; the JSON-ready dict of :func:`fit_summary`."""
     if to_si is None:
         from thzarray.app.units import parse_quantity as to_si
     return fit_summary(read_scan(path, to_si), str(path), freq, range_, fixed=fixed,
-                       polarization=polarization, to_si=to_si, cli=cli)
+                       polarization=polarization, to_si=to_si, cli=cli, medium=medium,
+                       electron_density=electron_density)

@@ -141,7 +141,7 @@ def calibrate_amplitude(amplitude, uncertainty=0.0, source: str = "") -> Calibra
     Returns
     -------
     Calibration
-        k = a^2, u(k)/k = 2 u(a)/|a|.
+        ``k = a^2, u(k)/k = 2 u(a)/|a|``.
     """
     a = abs(check_scalar("amplitude", amplitude))
     if a == 0:
@@ -180,7 +180,7 @@ def apply_to_field(field_, calibration: Calibration):
     Returns
     -------
     (ndarray, ndarray)
-        sqrt(k) E and |sqrt(k) E| u(k)/(2k); the uncertainty is of the modulus (the
+        ``sqrt(k) E`` and ``|sqrt(k) E| u(k)/(2k)``; the uncertainty is of the modulus (the
         calibration scales, it does not shift phases).
     """
     e = np.asarray(field_)

@@ -195,7 +195,7 @@ class Waveform:
     field : ndarray, shape (N,) + S + (3,)
         E(tau) (V/m; per A s of current spectrum without a plasma: V/(m A s)).
     delay : ndarray, shape S
-        |x| n_thz / c at each point (s).
+        ``|x| n_thz / c`` at each point (s).
     points : ndarray, shape S + (3,)
         The points (m).
     """

@@ -253,7 +253,7 @@ def fit_scan(angle, signal, freq, distance=None, sigma=None, polarization=None, 
     polarization : 3-sequence of float, optional
         Direction the detector is sensitive to (normalised); all components by default.
     source_spectrum : array_like, shape (B,), or Plasma, optional
-        Power spectrum |I(f)|^2 of the column's current at the band's frequencies (any
+        Power spectrum ``|I(f)|^2`` of the column's current at the band's frequencies (any
         scale, >= 0), or a :class:`~thzarray.source.plasma.Plasma` whose current spectrum
         to use; flat by default (see "Spectra" in the module docstring).
     detector_response : array_like, shape (B,), optional

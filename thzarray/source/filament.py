@@ -110,7 +110,7 @@ class Filament:
     current_direction : 3-sequence of float, optional
         Direction of the current. None (default): along the axis (single colour, radially
         polarized cone). Otherwise a vector perpendicular to the axis, normalised here
-        (|d . axis| <= ``PERPENDICULAR_TOLERANCE`` after normalising; the residue is
+        (``|d . axis| <= PERPENDICULAR_TOLERANCE`` after normalising; the residue is
         projected out): a transverse current, linearly polarized along it (two colour).
     group_index : float, optional
         Group index of the driver in this column, 1 to 2 (the pulse moves at
@@ -189,7 +189,7 @@ class Filament:
         .. math:: s_c = \\int s\\,w(s)\\,ds \\Big/ \\int w(s)\\,ds ;
 
         for a complex profile, or a real one that changes sign (whose signed centroid can lie
-        outside the column), the centroid of |w|,
+        outside the column), the centroid of ``|w|``,
 
         .. math:: s_c = \\int s\\,|w(s)|\\,ds \\Big/ \\int |w(s)|\\,ds ,
 

@@ -219,7 +219,7 @@ def phase_matched_angle(freq, dephasing_length: float, medium: Medium | None = N
     Raises
     ------
     ValueError
-        Where no direction satisfies the condition (|cos theta| would exceed 1); the
+        Where no direction satisfies the condition (``|cos theta|`` would exceed 1); the
         message gives the frequencies that have one.
 
     Notes

@@ -37,24 +37,39 @@ def cmd_cone(args):
 
     medium = medium_from_flags(args)
     freq = quantity("freq", args.freq, "frequency")
-    base = {"freq_hz": freq, "n_group": medium.n_group, "n_thz": medium.n_thz}
+    n_g, origin = _driver_flags(args, medium)
+    base = {"freq_hz": freq, "n_group": n_g, "n_group_from": origin, "n_thz": medium.n_thz}
     if args.length is not None:
         length = quantity("length", args.length, "length")
-        angle = float(cone_angle(length, freq, medium))
+        angle = float(cone_angle(length, freq, medium, group_index=n_g))
         result = dict(base, length_m=length, cone_angle_rad=angle,
                       cone_angle_deg=float(np.degrees(angle)))
         text = (f"cone angle {np.degrees(angle):.4g} deg for {length * 100:.4g} cm of plasma "
                 f"at {freq / 1e12:.4g} THz")
     else:
         angle = quantity("angle", args.angle, "angle", (0.0, np.pi / 2, True))
-        length = float(length_for_cone(angle, freq, medium))
+        length = float(length_for_cone(angle, freq, medium, group_index=n_g))
         result = dict(base, cone_angle_rad=angle, cone_angle_deg=float(np.degrees(angle)),
                       length_m=length)
         text = (f"plasma length {length * 100:.4g} cm gives a {np.degrees(angle):.4g} deg cone "
                 f"at {freq / 1e12:.4g} THz")
-    emit(args, result, text + f" (group index {medium.n_group:.8g}, THz index "
+    emit(args, result, text + f" (driver group index {n_g:.8g}: {origin}; THz index "
                               f"{medium.n_thz:.8g})")
     return 0
+
+
+def _driver_flags(args, medium):
+    """(group index, where from) of ``--group-index`` / ``--electron-density``."""
+    from thzarray.source.plasma import plasma_group_index_shift
+
+    if args.group_index is not None:
+        n_g = quantity("group-index", args.group_index, "number", (1.0, 2.0, False))
+        return n_g, "--group-index"
+    if args.electron_density is not None:
+        n_e = quantity("electron-density", args.electron_density, "density", (0.0, 1e26, False))
+        shift = float(plasma_group_index_shift(n_e, medium.laser_wavelength or 800e-9))
+        return medium.n_group + shift, f"the air's plus the plasma's n_e/(2 n_c) = {shift:.3g}"
+    return medium.n_group, "the air's"
 
 
 def cmd_check(args):
@@ -183,8 +198,11 @@ def cmd_fit(args):
     fixed = _fixed(args.fix)
     freq = None if args.freq is None else quantity("freq", args.freq, "frequency")
     rng = None if args.range is None else quantity("range", args.range, "length")
+    n_e = (None if args.electron_density is None else
+           quantity("electron-density", args.electron_density, "density", (0.0, 1e26, False)))
     result = fit_command_result(args.data, freq=freq, range_=rng, fixed=fixed or None,
-                                to_si=parse_quantity, cli=True)
+                                to_si=parse_quantity, cli=True, medium=medium_from_flags(args),
+                                electron_density=n_e)
     res = result["residuals"]
     curve = result["curve"]
     slug = slug_of(Path(args.data).stem)
@@ -221,7 +239,15 @@ def cmd_fit(args):
         unit = "" if unit in ("1", "dimensionless") else unit
         lines.append(f"  {name} = {value:.6g} +- {err:.2g} {unit}".rstrip() if err is not None
                      else f"  {name} = {value:.6g} {unit} (fixed or unconstrained)".rstrip())
-    emit(args, result, "\n".join(lines), result.get("messages", []))
+    pred = result.get("predicted", {})
+    if pred.get("mismatch_linear_air") is not None:
+        lines.append(f"  predicted mismatch: linear air {pred['mismatch_linear_air']:.3g}"
+                     + (f", with the plasma {pred['mismatch_with_plasma']:.3g}"
+                        if pred.get("mismatch_with_plasma") is not None else
+                        " (--electron-density adds the plasma's share)"))
+    assumed = "; ".join(f"{k}: {v}" for k, v in result.get("assumptions", {}).items())
+    emit(args, result, "\n".join(lines), result.get("messages", [])
+         + ([f"the fit assumed {assumed}"] if assumed else []))
     return 0
 
 
@@ -245,8 +271,9 @@ def cmd_focus(args):
                   beam_radius=quantity("beam-radius", args.beam_radius, "length",
                                        (1e-5, 1.0, False)),
                   wavelength=medium.laser_wavelength or 800e-9)
-    opts = dict(pulse=pulse, medium=medium)
-    notes = []
+    n_g, origin = _focus_driver(args, medium, pulse)
+    opts = dict(pulse=pulse, medium=medium, group_index=n_g)
+    notes = [f"driver group index {n_g:.7f}: {origin}"]
     with spinner(args, "focusing chart"):
         focal, length = focusing_for_cone(angle, energy, freq, **opts)
         grid = np.geomspace(focal_range[0], focal_range[1], 40)
@@ -276,6 +303,7 @@ def cmd_focus(args):
                      [grid] + curves))],
         captions=captions)
     summary = {"target_angle_deg": float(np.degrees(angle)), "column_length_m": float(length),
+               "group_index": n_g, "group_index_from": origin,
                "energy_j": energy.tolist(), "band_hz": np.atleast_1d(freq).tolist(),
                "focal_length_m": [None if not np.isfinite(f) else float(f) for f in focal],
                "files": files, "captions": captions}
@@ -285,6 +313,28 @@ def cmd_focus(args):
     emit(args, summary, f"a {np.degrees(angle):.3g} deg cone at {band_text} needs a "
                         f"{100 * length:.3g} cm column:\n" + rows, notes)
     return 0
+
+
+def _focus_driver(args, medium, pulse):
+    """The driver's group index for ``focus``: --group-index, else the air's, plus (with
+    --driver air+plasma, the default) the laser model's n_e/(2 n_c) at the clamped
+    intensity (the same for every energy and lens of the nominal model)."""
+    from thzarray.source.ionization import electron_density
+    from thzarray.source.laser import FilamentationModel
+
+    if args.group_index is not None:
+        return quantity("group-index", args.group_index, "number", (1.0, 2.0, False)), \
+            "--group-index"
+    if args.driver == "air":
+        return medium.n_group, "the air's (--driver air)"
+    from thzarray.source.plasma import plasma_group_index_shift
+
+    model = FilamentationModel()
+    n_e = float(electron_density(model.clamped_intensity, pulse.duration,
+                                 sigma=model.o2_cross_section))
+    shift = float(plasma_group_index_shift(n_e, pulse.wavelength))
+    return medium.n_group + shift, (f"the air's {medium.n_group:.7f} + the laser model's "
+                                    f"plasma n_e/(2 n_c) = {shift:.3g}")
 
 
 def _laser_notes(pulse, energies, focal) -> list:

@@ -86,7 +86,8 @@ def cmd_demo(args):
     s = _run(cmd_focus, args, angle="6 deg", band="0.2 THz,0.4 THz",
              energy="0.5 mJ,1 mJ,2 mJ,4 mJ", duration="50 fs", beam_radius="5 mm",
              focal="0.2 m,5 m", vacuum=False, temperature="15 degC", pressure="1013.25 hPa",
-             humidity="0 %", laser_wavelength="800 nm")
+             humidity="0 %", laser_wavelength="800 nm", driver="air+plasma",
+             group_index=None)
     results.append({"design": "Focusing for a 6 degree cone (command line)",
                     "description": "thzarray focus --angle '6 deg' --band '0.2 THz,0.4 THz' "
                                    "--energy '0.5 mJ,1 mJ,2 mJ,4 mJ'",

@@ -410,6 +410,11 @@ def parse_design(data: dict, path: Path | None = None) -> Design:
                         collision_rate=sec.plasma.collision_rate,
                         pulse_duration=sec.plasma.pulse_duration,
                         peak_intensity=sec.plasma.peak_intensity, radius=sec.plasma.radius)
+    if sec.laser is None and isinstance(plasma, Plasma):
+        from thzarray.source.plasma import finite_radius_note
+
+        thin = finite_radius_note(plasma)
+        notes += [f"[plasma]: {thin}"] if thin else []
     filaments = _sources(checker, data, sec, path, laser_fil)
     if sec.steering is not None:
         _check_steering(checker, sec.steering, filaments)

@@ -63,7 +63,7 @@ def _traces(design, phased, w, ranges, theta, phi, medium, pol):
 
 
 def peak_field_at(design: Design, phased: Phasing, distance: float) -> float:
-    """Peak |E(t)| (V/m, uncalibrated) along the recorded polarization at one range."""
+    """Peak ``|E(t)|`` (V/m, uncalibrated) along the recorded polarization at one range."""
     w = _section(design)
     theta, phi, _ = receiver_direction(w, phased)
     pol, _ = _polarization(design, w, theta, phi)

@@ -51,7 +51,7 @@ def static_waveforms(time, fields, dry, traces, labels, title, unit):
 
 
 def static_spectra(freq, spectra, labels, title, lines=()):
-    """|E(f)| in dB of each range's peak, the water lines marked."""
+    """``|E(f)|`` in dB of each range's peak, the water lines marked."""
     from matplotlib.figure import Figure
 
     fig = Figure(figsize=(6.4, 4.0), layout="constrained")

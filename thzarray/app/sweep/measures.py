@@ -174,12 +174,15 @@ def measure_spectral_energy(design: Design, seed):
 def measure_cone(design: Design, seed):
     """Cone angle of a uniform column of each source's length (source, freq), rad.
 
-    Exact maximum of the single-column pattern, :func:`~thzarray.cone.cone_angle`.
+    Exact maximum of the single-colour pattern, :func:`~thzarray.field.cone.cone_angle`,
+    with each column's driver group index (``[source]``).
     """
     import xarray as xr
 
     lengths = np.array([s.length for s in design.filaments])
-    angle = cone_angle(lengths[:, None], design.grid.freq[None, :], design.medium)
+    angle = np.stack([cone_angle(s.length, design.grid.freq, design.medium,
+                                 group_index=s.group_index_in(design.medium))
+                      for s in design.filaments])
     return xr.Dataset(
         {"cone_angle_uniform": (("source", "freq"), angle,
                                 {"units": "rad",
@@ -227,3 +230,25 @@ def measure_tolerance(design: Design, seed):
                             {"units": "1", "percentile": float(t.percentile)}),
         "gain_expected": ((), t.expected, {"units": "1", "long_name": "exact random-phase mean"}),
     })
+
+
+@register_measure("split", doc="Energy into the design's target versus the number of beams "
+                               "one [laser] pulse is split into ([split])")
+def measure_split(design: Design, seed):
+    """The split study of :func:`thzarray.app.jobs.bench.split` (count,): one column,
+    random phases and phased energies into the target, P/P_cr and column length per beam."""
+    import xarray as xr
+
+    from thzarray.app.jobs.bench import split
+
+    s = split(design).study
+    unit = s.unit
+    return xr.Dataset(
+        {"split_single": (("count",), s.single, {"units": unit, "long_name": "one column"}),
+         "split_incoherent": (("count",), s.incoherent,
+                              {"units": unit, "long_name": "N columns, random phases"}),
+         "split_phased": (("count",), s.phased, {"units": unit, "long_name": "N columns, steered"}),
+         "split_power_ratio": (("count",), s.power_ratio, {"units": "1", "long_name": "P/P_cr"}),
+         "split_length": (("count",), s.length, {"units": "m", "long_name": "column length"}),
+         "split_best_count": ((), s.best_count, {"units": "1"})},
+        coords={"count": ("count", s.counts, {"long_name": "beams"})})
