@@ -230,8 +230,7 @@ def cmd_sweep(args):
     captions = {}
     files = sweep_figures(result.path, args.out, args.force, captions)
     summary = dict(result.summary(), figures=files, captions=captions)
-    emit(args, summary, f"{sweep.name}: {summary['tasks']} tasks ({result.computed} computed, "
-                        f"{result.reused} reused); wrote {result.path} and {len(files)} "
-                        "figure files", design_notes(sweep.design, "sweep")
+    emit(args, summary, f"{sweep.name}: {result.describe()}; wrote {result.path} and "
+                        f"{len(files)} figure files", design_notes(sweep.design, "sweep")
          + list(getattr(result, "notes", ())))
     return 0

@@ -18,8 +18,8 @@ from thzarray.app.sweep.spec import (
            load_sweep,
            parse_sweep,
 )
-from thzarray.app.sweep.store import gather, output_paths
+from thzarray.app.sweep.store import gather, inspect_part, output_paths
 
 __all__ = ["MAX_TASKS", "MEASURES", "Axis", "Measure", "Sweep", "SweepResult", "Task", "gather",
-           "load_sweep", "measure_cut", "output_paths", "parse_sweep", "register_measure", "run_serial",
-           "run_sweep", "sweep_figures"]
+           "inspect_part", "load_sweep", "measure_cut", "output_paths", "parse_sweep",
+           "register_measure", "run_serial", "run_sweep", "sweep_figures"]

@@ -2,7 +2,10 @@
 running scheduler), keeping every finished task and gathering the results.
 
 A sweep that was interrupted resumes where it stopped; one that is extended (more values)
-reuses the points it already has.
+reuses the points it already has. A part is reused only when it was recorded for exactly the
+task's inputs (design, the files it refers to, measure, options, seed, version) and its
+numbers match their checksum; otherwise it is rejected and computed again. The result says
+how many parts were reused, rejected and computed.
 """
 
 from __future__ import annotations
@@ -16,27 +19,39 @@ from thzarray.app.design import DesignError, parse_design
 from thzarray.app.netcdf import write_netcdf
 from thzarray.app.output import check_writable
 from thzarray.app.sweep.spec import Sweep
-from thzarray.app.sweep.store import gather, output_paths, read_part, write_part
+from thzarray.app.sweep.store import gather, inspect_part, output_paths, write_part
 
 __all__ = ["SweepResult", "run_serial", "run_sweep"]
 
 
 @dataclass(frozen=True, eq=False)
 class SweepResult:
-    """A finished sweep: the gathered Dataset, where it was written, what was (re)used."""
+    """A finished sweep: the gathered Dataset, where it was written, what was (re)used.
+
+    ``computed`` counts every task computed in this run, ``rejected`` those of them whose
+    part existed but was recorded for other inputs or failed its checksum (recomputed),
+    ``reused`` the parts taken as they were.
+    """
 
     dataset: object
     path: Path
     parts: Path
     computed: int
     reused: int
+    rejected: int = 0
 
     def summary(self) -> dict:
         ds = self.dataset
         return {"sweep": ds.attrs["sweep"], "file": str(self.path), "parts": str(self.parts),
                 "tasks": self.computed + self.reused, "computed": self.computed,
-                "reused": self.reused, "dims": dict(ds.sizes),
+                "reused": self.reused, "rejected": self.rejected,
+                "recomputed": self.rejected, "dims": dict(ds.sizes),
                 "variables": sorted(ds.data_vars)}
+
+    def describe(self) -> str:
+        """One line: tasks, reused, rejected (recomputed) and newly computed parts."""
+        return (f"{self.computed + self.reused} tasks: {self.reused} reused, {self.rejected} "
+                f"rejected and recomputed, {self.computed - self.rejected} computed new")
 
 
 @dataclass(frozen=True)
@@ -119,8 +134,10 @@ def _execute(sweep, out_dir, force, recompute, progress, runner):
     final, parts = output_paths(sweep, out_dir)
     check_writable(final, force)  # refuse before computing anything
     tasks = list(sweep.tasks())
-    pending = [t for t in tasks
-               if recompute or read_part(parts / f"{t.key}.npz", t.key) is None]
+    status = {t.slot: ("missing" if recompute else inspect_part(parts / f"{t.slot}.npz",
+                                                                 t.key)[0]) for t in tasks}
+    pending = [t for t in tasks if recompute or status[t.slot] != "ok"]
+    rejected = sum(1 for t in pending if status[t.slot] == "rejected")
     reused = len(tasks) - len(pending)
     run = runner(pending) if pending else nullcontext(())
     with _progress(len(tasks), reused, sweep.name, progress) as bar, run as results:
@@ -129,11 +146,11 @@ def _execute(sweep, out_dir, force, recompute, progress, runner):
             if isinstance(out, _Failure):
                 raise DesignError([f"task ({sweep.describe(task)}): {p}" for p in out.problems])
             _check_result(sweep, task, out)
-            write_part(out, parts / f"{task.key}.npz", task.key, sweep.describe(task))
+            write_part(out, parts / f"{task.slot}.npz", task.key, sweep.describe(task))
             bar.update(1)
     dataset = gather(sweep, parts, tasks)
     write_netcdf(dataset, final, force)
-    return SweepResult(dataset, final, parts, len(pending), reused)
+    return SweepResult(dataset, final, parts, len(pending), reused, rejected)
 
 
 def _check_result(sweep, task, out):

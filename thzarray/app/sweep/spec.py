@@ -3,7 +3,12 @@
 A sweep file (TOML, format in ``designs/sweeps/README.md``) names a base design file, the
 measures to compute (:mod:`thzarray.app.sweep.measures`), the design keys to vary and, for
 Monte-Carlo measures, the seeds. The varied keys form an outer-product grid; every grid
-point, measure and seed is one :class:`Task`, named by a hash of everything that reaches it.
+point, measure and seed is one :class:`Task`. A task's ``key`` is a hash of everything its
+result depends on: the design after substitution, the bytes of every file the design refers
+to (layout table, detector response, line list), the measure and its options, the seed and
+the package version. Its ``slot`` (the part file's name) hashes only where it sits in the
+sweep (the varied values, the measure, the seed), so that a part whose inputs changed is found,
+rejected and computed again rather than silently left beside a new one.
 """
 
 from __future__ import annotations
@@ -11,7 +16,9 @@ from __future__ import annotations
 import hashlib
 import json
 import math
+import os
 import re
+import stat
 from dataclasses import dataclass, field
 from itertools import product
 from pathlib import Path
@@ -33,16 +40,22 @@ from thzarray.app.design import (
     suggest,
 )
 from thzarray.app.design.checker import grid_values
+from thzarray.app.files import resolve_beside
 from thzarray.app.sweep.measures import MEASURES
 from thzarray.app.units import DIMENSIONS
 
-__all__ = ["MAX_TASKS", "PART_FORMAT", "Axis", "Sweep", "Task", "load_sweep", "parse_sweep"]
+__all__ = ["FILE_KEYS", "MAX_TASKS", "PART_FORMAT", "Axis", "Sweep", "Task", "file_digests",
+           "load_sweep", "parse_sweep"]
 
 # Largest number of tasks a sweep may have; larger sweeps are refused before any work.
 MAX_TASKS = 100_000
 
 # Bumped when the layout of a part file changes, so that old parts are not reused.
-PART_FORMAT = 1
+PART_FORMAT = 2
+
+# Design keys that name a file whose content reaches the result (hashed into every task).
+FILE_KEYS = (("layout", "csv"), ("receiver", "response_csv"), ("medium", "line_list"))
+_MAX_HASHED_BYTES = 1 << 30
 
 _SWEEP_KEYS = {"name": "a short name (file names are made from it)",
                "description": "free text",
@@ -78,13 +91,18 @@ class Axis:
 
 @dataclass(frozen=True, eq=False)
 class Task:
-    """One grid point, measure and seed; ``key`` names its part file."""
+    """One grid point, measure and seed.
+
+    ``key`` hashes everything the result depends on (recorded in the part); ``slot`` names
+    the part file (the task's place in the sweep: varied values, measure, seed).
+    """
 
     index: tuple
     measure: str
     seed: int | None
     key: str
     data: dict = field(repr=False)
+    slot: str = ""
 
 
 @dataclass(frozen=True, eq=False)
@@ -127,14 +145,18 @@ class Sweep:
 
     def tasks(self) -> Iterator[Task]:
         """Every task, grid point by grid point (last axis fastest), then measure and seed."""
+        base = self.design.path
         for index in product(*(range(n) for n in self.shape)):
             data = self.data_at(index)
-            design_hash = _digest(data)
+            design_hash = _digest({"design": data, "files": file_digests(data, base)})
+            point = {a.key: a.value(i) for a, i in zip(self.axes, index)}
             for measure, options in self.measures:
                 for seed in self.seeds_of(measure.name):
                     key = _digest({"design": design_hash, "measure": measure.name,
                                    "options": options, "seed": seed})
-                    yield Task(index, measure.name, seed, key, data)
+                    slot = _digest({"point": point, "measure": measure.name, "seed": seed},
+                                   versioned=False)
+                    yield Task(index, measure.name, seed, key, data, slot)
 
     def describe(self, task: Task) -> str:
         """The task's parameters as one line, e.g. ``filament.length = 0.2 m, seed 3``."""
@@ -145,11 +167,52 @@ class Sweep:
         return ", ".join(parts)
 
 
-def _digest(inputs) -> str:
+def _digest(inputs, versioned: bool = True) -> str:
     """Hash of a task's inputs (plain TOML-like data), the part layout and the version."""
-    text = json.dumps({"format": PART_FORMAT, "thzarray": __version__, "inputs": inputs},
-                      sort_keys=True, separators=(",", ":"), default=str)
+    head = {"format": PART_FORMAT, "thzarray": __version__} if versioned else {}
+    text = json.dumps({**head, "inputs": inputs}, sort_keys=True, separators=(",", ":"),
+                      default=str)
     return hashlib.sha256(text.encode("utf-8")).hexdigest()[:40]
+
+
+def _file_digest(path) -> str:
+    """SHA-256 of a regular file's bytes (a special, unreadable or huge file: its reason)."""
+    try:
+        fd = os.open(str(path), os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
+    except OSError as exc:
+        return f"unreadable: {exc.strerror}"
+    try:
+        info = os.fstat(fd)
+        if not stat.S_ISREG(info.st_mode) or info.st_size > _MAX_HASHED_BYTES:
+            return f"not hashed: mode {info.st_mode:o}, {info.st_size} bytes"
+        h, done = hashlib.sha256(), 0
+        while chunk := os.read(fd, 1 << 20):
+            h.update(chunk)
+            done += len(chunk)
+            if done > _MAX_HASHED_BYTES:
+                return "not hashed: grew while read"
+        return h.hexdigest()
+    finally:
+        os.close(fd)
+
+
+def file_digests(data: dict, base) -> dict:
+    """{``section.key``: SHA-256 of the file's bytes} for every file a design refers to.
+
+    Parameters
+    ----------
+    data : dict
+        The design's TOML data.
+    base : path or None
+        The design file; relative file names are taken beside it.
+    """
+    out = {}
+    for section, key in FILE_KEYS:
+        table = data.get(section)
+        name = table.get(key) if isinstance(table, dict) else None
+        if isinstance(name, str):
+            out[f"{section}.{key}"] = _file_digest(resolve_beside(name, base))
+    return out
 
 
 def _substitute(data, key, value):

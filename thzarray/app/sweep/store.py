@@ -1,8 +1,11 @@
 """Finished sweep tasks on disk: one part file per task, and the gathered Dataset.
 
 Each finished task is kept as one small ``.npz`` file under ``<out>/<name>.parts/``,
-written atomically and named by the task's hash (:class:`~thzarray.app.sweep.spec.Task`).
-A part that is missing, cut short, of another layout or another task is computed again.
+written atomically and named by the task's slot (:class:`~thzarray.app.sweep.spec.Task`).
+Its header records the task's key (the hash of everything the result depends on) and a
+SHA-256 checksum of its names, shapes, types and numbers. A part that is missing is computed;
+one that is cut short, of another layout, of another key (an input changed) or whose numbers
+no longer match their checksum is *rejected* and computed again.
 The parts are gathered into one labelled :class:`xarray.Dataset` (a dimension per varied
 key with SI coordinates and units, ``seed`` for Monte-Carlo measures, then the measure's own
 dimensions).
@@ -10,6 +13,7 @@ dimensions).
 
 from __future__ import annotations
 
+import hashlib
 import json
 import re
 import zipfile
@@ -21,7 +25,7 @@ from thzarray._version import __version__
 from thzarray.app.output import atomic_path
 from thzarray.app.sweep.spec import PART_FORMAT, Sweep
 
-__all__ = ["gather", "output_paths", "read_part", "write_part"]
+__all__ = ["gather", "inspect_part", "output_paths", "read_part", "write_part"]
 
 
 def _slug(name):
@@ -43,34 +47,62 @@ def _jsonable(obj):
     raise TypeError(f"attribute value {obj!r} cannot be stored; allowed: numbers, strings")
 
 
+def _checksum(entries, arrays) -> str:
+    """SHA-256 of the variables' description and of every array's type, shape and bytes."""
+    h = hashlib.sha256(json.dumps(entries, sort_keys=True, default=_jsonable).encode())
+    for a in arrays:
+        a = np.ascontiguousarray(a)
+        h.update(f"{a.dtype.str}{a.shape}".encode())
+        h.update(a.tobytes() if a.dtype.kind != "O" else repr(a.tolist()).encode())
+    return h.hexdigest()
+
+
 def write_part(dataset, path: Path, key: str, task: str):
-    """One task's Dataset as .npz: its arrays plus a JSON header of names, dims, attrs."""
+    """One task's Dataset as .npz: its arrays plus a JSON header of names, dims, attrs, the
+    task's key and the checksum of the numbers."""
     arrays, entries = {}, []
     for i, (name, var) in enumerate(dataset.variables.items()):
         arrays[f"a{i}"] = np.asarray(var.values)
         entries.append({"name": name, "dims": list(var.dims), "attrs": dict(var.attrs),
                         "coord": name in dataset.coords})
-    header = {"format": PART_FORMAT, "key": key, "task": task, "variables": entries}
+    header = {"format": PART_FORMAT, "key": key, "task": task, "variables": entries,
+              "checksum": _checksum(entries, arrays.values())}
     arrays["header"] = np.array(json.dumps(header, default=_jsonable))
     with atomic_path(path, force=True) as tmp, open(tmp, "wb") as fh:
         np.savez(fh, **arrays)
 
 
-def read_part(path: Path, key: str):
-    """The Dataset of a finished task, or None when missing, unreadable or not this task's."""
+def inspect_part(path: Path, key: str):
+    """(status, Dataset or None) of a task's part: status ``"missing"`` (no file),
+    ``"rejected"`` (unreadable, cut short, of another layout, recorded for other inputs, or
+    numbers that do not match their checksum) or ``"ok"``."""
     import xarray as xr
 
+    if not Path(path).is_file():
+        return "missing", None
     try:
         with open(path, "rb") as fh, np.load(fh, allow_pickle=False) as npz:
             header = json.loads(str(npz["header"]))
             if header.get("key") != key or header.get("format") != PART_FORMAT:
-                return None
+                return "rejected", None
             items = [(e, npz[f"a{i}"]) for i, e in enumerate(header["variables"])]
-    except (OSError, ValueError, KeyError, EOFError, zipfile.BadZipFile):
-        return None  # absent, cut short, or of another layout: computed again
-    coords = {e["name"]: (e["dims"], a, e["attrs"]) for e, a in items if e["coord"]}
-    data = {e["name"]: (e["dims"], a, e["attrs"]) for e, a in items if not e["coord"]}
-    return xr.Dataset(data, coords=coords)
+    except (OSError, ValueError, KeyError, TypeError, AttributeError, EOFError,
+            zipfile.BadZipFile):
+        return "rejected", None  # cut short or of another layout: computed again
+    entries = [e for e, _ in items]
+    if header.get("checksum") != _checksum(entries, [a for _, a in items]):
+        return "rejected", None
+    try:
+        coords = {e["name"]: (e["dims"], a, e["attrs"]) for e, a in items if e["coord"]}
+        data = {e["name"]: (e["dims"], a, e["attrs"]) for e, a in items if not e["coord"]}
+        return "ok", xr.Dataset(data, coords=coords)
+    except (KeyError, TypeError, ValueError):
+        return "rejected", None
+
+
+def read_part(path: Path, key: str):
+    """The Dataset of a finished task, or None when missing or rejected (:func:`inspect_part`)."""
+    return inspect_part(path, key)[1]
 
 
 def gather(sweep: Sweep, parts: Path, tasks=None):
@@ -88,7 +120,7 @@ def gather(sweep: Sweep, parts: Path, tasks=None):
     seed_pos = {s: i for i, s in enumerate(sweep.seeds)}
     arrays, dims, attrs, coords, owner, expected = {}, {}, {}, {}, {}, {}
     for task in tasks:
-        part = read_part(parts / f"{task.key}.npz", task.key)
+        part = read_part(parts / f"{task.slot}.npz", task.key)
         if part is None:
             raise ValueError(f"part of task ({sweep.describe(task)}) is missing from "
                              f"{str(parts)!r}; allowed: run the sweep to finish it")
