@@ -17,7 +17,7 @@ import numpy as np
 from thzarray.app.design.schema import Spec
 from thzarray.app.files import read_text_capped
 from thzarray.app.units import DIMENSIONS, UnitError, parse_quantity, suggest_unit
-from thzarray.base.checks import shorten
+from thzarray.base.checks import shorten, unit_vector
 
 __all__ = ["Checker", "DesignError", "GridSpec", "MAX_TOML_BYTES", "read_toml", "suggest"]
 
@@ -144,7 +144,15 @@ class Checker:
                 return None
             sub = kind.split(":", 1)[1]
             out = [self.scalar(f"{path}[{i}]", v, spec, sub) for i, v in enumerate(value)]
-            return None if any(o is None for o in out) else tuple(out)
+            if any(o is None for o in out):
+                return None
+            if sub == "number":  # a direction: refused when it has none (zero, subnormal)
+                try:
+                    unit_vector(path, out)
+                except ValueError as exc:
+                    self.problems.append(str(exc))
+                    return None
+            return tuple(out)
         if kind.startswith("list:"):
             sub = kind.split(":", 1)[1]
             if not isinstance(value, list) or not value:

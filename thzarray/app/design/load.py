@@ -27,6 +27,7 @@ from thzarray.app.design.detection import (
     line_list,
     receiver_of,
 )
+from thzarray.app.design.feasibility import size_problems
 from thzarray.app.design.schema import (
     KIND_KEYS,
     MAX_FILAMENTS,
@@ -440,6 +441,8 @@ def parse_design(data: dict, path: Path | None = None) -> Design:
     lines = line_list(sec.medium, path, checker.problems)
     check_waveform(sec.waveform, checker.problems)
     check_calibration(sec.calibration, sec, checker.problems)
+    if not checker.problems:
+        checker.problems += size_problems(sec, receiver_band)
     source = None
     if filaments is not None and medium is not None and not checker.problems:
         source = apply_source(sec.source, filaments, medium, plasma, wavelength, estimate,

@@ -23,8 +23,9 @@ from dataclasses import dataclass
 __all__ = ["KIND_KEYS", "MAX_FILAMENTS", "MAX_GRID_POINTS", "OUTPUT_FORMATS", "SCHEMA",
            "SOURCE_SECTIONS", "Spec", "applies"]
 
-MAX_GRID_POINTS = 50_000_000
-"""Largest observation grid a design may request (points x frequencies)."""
+MAX_GRID_POINTS = 25_000_000
+"""Largest observation grid a design may request (points x frequencies): its far field, two
+result-sized complex buffers of 32 bytes a point, stays within the 2 GiB memory budget."""
 MAX_FILAMENTS = 4096
 """Most filaments one design may hold."""
 OUTPUT_FORMATS = ("png", "pdf", "html", "csv", "netcdf")
@@ -94,7 +95,7 @@ SCHEMA: dict[str, dict[str, Spec]] = {
                           example='"5 mm"'),
         "wavelength": _Q("length", 800e-9, low=0.3e-6, high=1.7e-6,
                          doc="vacuum wavelength", example='"800 nm"'),
-        "focal_length": _Q("length", None, low=0.0, low_open=True, high=1e4,
+        "focal_length": _Q("length", None, low=1e-3, high=1e4,
                            doc="lens focal length; omit for a collimated beam",
                            example='"1 m"'),
         "n2": _Q("n2", 3.2e-23, low=0.0, low_open=True, high=1e-15,
@@ -155,7 +156,7 @@ SCHEMA: dict[str, dict[str, Spec]] = {
                                     example='["2e12 1/s", "2e12 1/s", "2e12 1/s"]'),
     },
     "filament": {
-        "length": _Q("length", required=True, low=0.0, high=1e3, low_open=True,
+        "length": _Q("length", required=True, low=1e-9, high=1e3,
                      doc="column length", example='"30 cm"'),
         "start": _Q("vector:length", (0.0, 0.0, 0.0), low=-_POSITION, high=_POSITION,
                     doc="where the column starts [x, y, z]", example='["0 m", "0 m", "1 m"]'),
@@ -176,7 +177,7 @@ SCHEMA: dict[str, dict[str, Spec]] = {
         "kind": _Q("choice", required=True,
                    choices=("line", "grid", "hexagonal", "ring", "random", "csv"),
                    doc="array builder", example='"grid"'),
-        "length": _Q("length", None, low=0.0, low_open=True, high=1e3,
+        "length": _Q("length", None, low=1e-9, high=1e3,
                      doc="column length (from [laser] when that section is given)",
                      example='"30 mm"'),
         "count": _Q("int", None, low=1, high=MAX_FILAMENTS,
@@ -216,7 +217,7 @@ SCHEMA: dict[str, dict[str, Spec]] = {
                           example='"0.3 THz"'),
         "max_delay": _Q("time", None, low=0.0, low_open=True, high=1e-6,
                         doc="optimise: largest delay the bench can set", example='"1 ps"'),
-        "aperture_radius": _Q("length", None, low=0.0, low_open=True, high=1e3,
+        "aperture_radius": _Q("length", None, low=1e-6, high=1e3,
                               doc="radius of the target aperture (with aperture_distance)",
                               example='"5 mm"'),
         "aperture_distance": _Q("length", None, low=0.0, low_open=True, high=1e6,
@@ -272,14 +273,14 @@ SCHEMA: dict[str, dict[str, Spec]] = {
                    example='"narrowband"'),
         "center_freq": _Q("frequency", None, low=_FREQ[0], high=_FREQ[1],
                           doc="centre of the pass band", example='"0.1 THz"'),
-        "bandwidth": _Q("frequency", None, low=0.0, low_open=True, high=_FREQ[1],
+        "bandwidth": _Q("frequency", None, low=1e6, high=_FREQ[1],
                         doc="full width of the pass band", example='"10 GHz"'),
         "polarization": _Q("vector:number", (1.0, 0.0, 0.0), low=-1e6, high=1e6,
                            doc="narrowband: polarization direction [x, y, z]",
                            example="[1, 0, 0]"),
-        "area": _Q("area", None, low=0.0, low_open=True, high=1.0,
+        "area": _Q("area", None, low=1e-12, high=1.0,
                    doc="effective area (or beam_waist)", example='"1 mm^2"'),
-        "beam_waist": _Q("length", None, low=0.0, low_open=True, high=1.0,
+        "beam_waist": _Q("length", None, low=1e-6, high=1.0,
                          doc="narrowband: Gaussian acceptance beam waist (1/e^2 radius)",
                          example='"5 mm"'),
         "response_csv": _Q("str", None,

@@ -1,0 +1,131 @@
+"""`thzarray check` runs the same validation and size estimate as every job (issue 12).
+
+Each probe from the issue is refused by ``check`` (exit 2, a line naming the key, and the
+bytes where memory is the reason) and by the job with the same line; the size estimate
+refuses exactly where the core function it stands for refuses (same byte count against the
+same budget). Bookkeeping checks: common practice, no source.
+"""
+import numpy as np
+import pytest
+
+from thzarray.app.cli import main
+from thzarray.app.design import parse_design
+from thzarray.app.design.feasibility import size_problems
+from thzarray.detect.waveform import waveform
+from thzarray.field.nearfield import field_at
+from thzarray.source.filament import Filament
+
+BASE = """\
+[design]
+name = "probe"
+
+[filament]
+length = "30 cm"
+
+[observe]
+freq = ["0.1 THz"]
+theta = { start = "0 deg", stop = "10 deg", points = 11 }
+phi = { start = "0 deg", stop = "360 deg", points = 5 }
+"""
+
+RECEIVER = """
+[receiver]
+kind = "narrowband"
+center_freq = "0.1 THz"
+bandwidth = "10 GHz"
+area = "1 mm^2"
+band_points = 11
+"""
+
+
+def _plane(normal="[0, 0, 1]", points=5):
+    return f"""
+[plane]
+distance = "1.5 m"
+normal = {normal}
+x = {{ start = "-1 cm", stop = "1 cm", points = {points} }}
+y = {{ start = "-1 cm", stop = "1 cm", points = {points} }}
+"""
+
+
+PROBES = {
+    # (design text, command, the key the line must name, whether the line names bytes)
+    "zero plane normal": (BASE + RECEIVER + _plane("[0, 0, 0]"), "map", "plane.normal", False),
+    "1e20 THz band": (BASE + '[cone]\nband = ["0.1 THz", "1e20 THz"]\n', "pattern",
+                      "cone.band[1]", False),
+    "plane map over budget": (BASE + RECEIVER + _plane(points=1601), "map", "plane", True),
+    "budget ranges over budget": (
+        BASE + RECEIVER + '[budget]\nranges = { start = "1 m", stop = "50 m", points = '
+        '3000000 }\n', "budget", "budget.ranges", True),
+    "observe grid over the cap": (
+        BASE.replace("points = 11", "points = 30000").replace("points = 5", "points = 900"),
+        "pattern", "observe", False),
+    "huge tolerance trials": (BASE + "[tolerance]\ntrials = 100000000\n", "tolerance",
+                              "tolerance.trials", False),
+    "waveform window without a frequency": (
+        BASE + '[waveform]\nduration = "0.1 ps"\nbandwidth = "10 GHz"\n', "waveform",
+        "waveform.bandwidth", False),
+    "zero-length column": (BASE.replace('"30 cm"', '"1e-12 m"'), "pattern", "filament.length",
+                           False),
+    "focal length below 1 mm": (
+        BASE.replace('[filament]\nlength = "30 cm"\n', '[laser]\nenergy = "1 mJ"\n'
+                     'focal_length = "0.1 mm"\n'), "pattern", "laser.focal_length", False),
+}
+
+
+@pytest.mark.parametrize("name", sorted(PROBES))
+def test_check_refuses_exactly_what_the_job_refuses(name, tmp_path, capsys):
+    text, command, key, names_bytes = PROBES[name]
+    path = tmp_path / "probe.toml"
+    path.write_text(text)
+    lines = {}
+    for cmd in ("check", command):
+        assert main([cmd, str(path), "--out", str(tmp_path / "out"), "--quiet"]) == 2
+        err = capsys.readouterr().err.splitlines()
+        assert err and all(line.startswith("thzarray: error: ") for line in err)
+        lines[cmd] = err
+    assert lines["check"] == lines[command]
+    assert any(line.startswith(f"thzarray: error: {key}") for line in lines["check"]), lines
+    if names_bytes:
+        assert any(" bytes" in line and key in line for line in lines["check"])
+
+
+@pytest.mark.parametrize("points", [3, 5])
+def test_the_map_estimate_refuses_where_field_at_refuses(points):
+    import tomllib
+
+    d = parse_design(tomllib.loads(BASE + RECEIVER + _plane(points=points)))
+    n = d.receiver_band.size * points * points
+    fil = Filament(0.3)
+    freq = d.receiver_band[:, None]
+    pts = np.zeros((points * points, 3)) + [0.0, 0.0, 1.5]
+    for budget in (96 * n - 1, 96 * n):
+        refused_here = any(p.startswith("plane:")
+                           for p in size_problems(d.sections, d.receiver_band, budget))
+        try:
+            field_at(fil, freq, pts, memory_budget=budget)
+            refused_there = False
+        except ValueError as exc:
+            assert "memory_budget" in str(exc)
+            refused_there = True
+        assert refused_here == refused_there == (budget < 96 * n)
+
+
+def test_the_waveform_estimate_refuses_where_waveform_refuses():
+    import tomllib
+
+    text = BASE + '[waveform]\nranges = ["1 m", "2 m"]\nduration = "10 ps"\n' \
+                  'bandwidth = "1 THz"\n'
+    d = parse_design(tomllib.loads(text))
+    problems = size_problems(d.sections, None, 1.0)
+    need = int(problems[0].split(" needs ")[1].split()[0])
+    pts = np.array([[0.0, 0.05, 1.0], [0.0, 0.1, 2.0]])
+    for budget in (need - 1, need):
+        refused_here = bool(size_problems(d.sections, None, budget))
+        try:
+            waveform(Filament(0.3), pts, 10e-12, 1e12, memory_budget=budget, far=True)
+            refused_there = False
+        except ValueError as exc:
+            assert "memory_budget" in str(exc)
+            refused_there = True
+        assert refused_here == refused_there == (budget < need)

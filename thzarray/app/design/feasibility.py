@@ -1,0 +1,77 @@
+"""The size of what a design asks the commands to compute, checked when the design loads.
+
+Every command loads its design through :func:`~thzarray.app.design.load.parse_design`, and
+so does ``thzarray check``: the estimates here run for all of them, so that a design
+``check`` calls valid is one every command can run within the memory budget. Each estimate
+uses the rule of the function that would refuse (the result's bytes against
+:data:`~thzarray.base.memory.DEFAULT_MEMORY_BUDGET`); temporaries are chunked to fit by the
+functions themselves. The ``[observe]`` grid is capped by its point count instead
+(:data:`~thzarray.app.design.schema.MAX_GRID_POINTS`, chosen so that its far field fits).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from thzarray.app.design.checker import grid_values
+from thzarray.base.memory import DEFAULT_MEMORY_BUDGET
+
+__all__ = ["size_problems"]
+
+# Bytes a point of an exact near-field result takes (E and H, complex, 3 components), as
+# thzarray.field.nearfield.fields_at counts them; a waveform point (complex, 3 components)
+# as thzarray.detect.waveform.waveform counts them.
+_NEAR_BYTES = 96
+_WAVEFORM_BYTES = 48
+
+
+def _line(key, what, need, budget):
+    return (f"{key}: {what} needs {need} bytes ({need / 2**30:.3g} GiB); allowed: at most "
+            f"{int(budget)} bytes (the memory budget): fewer points")
+
+
+def size_problems(sections, receiver_band, budget: float = DEFAULT_MEMORY_BUDGET) -> list:
+    """One line per command whose result would not fit in ``budget`` bytes.
+
+    Parameters
+    ----------
+    sections : Sections
+        The design's typed sections.
+    receiver_band : ndarray or None
+        Frequencies sampling the receiver's pass band (Hz).
+    budget : float
+        Memory budget (bytes).
+    """
+    out = []
+    n_band = 0 if receiver_band is None else int(np.size(receiver_band))
+    plane = sections.plane
+    if n_band and plane is not None:
+        points = grid_values(plane.x).size * grid_values(plane.y).size
+        need = _NEAR_BYTES * n_band * points
+        if need > budget:
+            out.append(_line("plane", f"the map's exact field on {points} points x {n_band} "
+                                      "band frequencies", need, budget))
+    if n_band:
+        ranges = (50 if sections.budget is None
+                  else grid_values(sections.budget.ranges).size)
+        need = _NEAR_BYTES * n_band * ranges
+        if need > budget:
+            out.append(_line("budget.ranges", f"the budget's exact field at {ranges} ranges x "
+                                              f"{n_band} band frequencies", need, budget))
+    w = sections.waveform
+    if w is not None and w.bandwidth * w.duration < 1.0:
+        out.append(f"waveform.bandwidth: {w.bandwidth:g} Hz with duration {w.duration:g} s "
+                   "leaves no frequency in the window; allowed: bandwidth x duration >= 1")
+    elif w is not None:
+        from thzarray.detect.waveform import waveform_grids
+
+        try:
+            freq, time = waveform_grids(w.duration, w.bandwidth)
+        except ValueError as exc:
+            return out + [f"waveform.duration: {exc}"]
+        need = _WAVEFORM_BYTES * len(w.ranges) * (freq.size + time.size)
+        if need > budget:
+            out.append(_line("waveform.ranges", f"the waveforms at {len(w.ranges)} ranges x "
+                                                f"{freq.size + time.size} samples", need,
+                             budget))
+    return out
