@@ -443,4 +443,5 @@ def applies(section: str, key: str, kind) -> bool:
         return True
     selector, table = KIND_KEYS[section]
     specific = set().union(*table.values())
-    return key not in specific or key in table.get(kind, set())
+    used = table.get(kind, set()) if isinstance(kind, str) else set()  # a bad kind: none
+    return key not in specific or key in used
