@@ -407,7 +407,7 @@ BAD = [
     ('"filaments[*].length"', '"filaments[7].length"',
      "vary.filaments[7].length: column 7 does not exist; allowed: 0 to 1 or *"),
     ('"5 cm"', '"-5 cm"', "vary.filaments[*].length[0]: '-5 cm' is out of range; "
-     "allowed: > 0 and <= 1000 m"),
+     "allowed: >= 1e-09 and <= 1000 m"),
     ('"5 cm"', '"5 THz"', "vary.filaments[*].length[0]: '5 THz' has the unit 'THz', which is not a length"),
     ('"5 cm"', '"10 cm"', "vary.filaments[*].length: ['10 cm', '10 cm', '15 cm'] repeats a "
      "value; allowed: distinct values"),
