@@ -131,3 +131,17 @@ def test_cone_angle_in_range_is_finite_and_inverts(length, freq, medium):
 def test_cone_solver_refuses_out_of_range_naming_the_parameter(name, call):
     with pytest.raises(ValueError, match=rf"^{name}"):
         call()
+
+
+@given(tiny=st.floats(5e-324, 1e-13))
+def test_fit_refuses_a_sigma_that_resolves_nothing(tiny):
+    # Found by the fuzz corpus: a scan row with sigma 1.5e-302 overflowed the weighted
+    # residuals inside scipy ("array must not contain infs or NaNs", no parameter named).
+    from thzarray.inverse.scans import fit_scan
+
+    angle = np.radians(np.linspace(0.5, 8.0, 12))
+    signal = np.linspace(0.1, 1.0, 12)
+    sigma = np.full(12, 0.015)
+    sigma[5] = tiny
+    with pytest.raises(ValueError, match=r"^sigma"):
+        fit_scan(angle, signal, 0.3e12, sigma=sigma)

@@ -290,6 +290,9 @@ def parameters(defaults, bounds, scales, fixed, initial, allowed):
                     np.array([bounds[n][1] for n in names])), fixed, values
 
 
+_SIGMA_FLOOR = 1e-12
+
+
 def check_data(x_name, x, signal, sigma, n_free):
     signal = as_float_array("signal", signal)
     if signal.ndim != 1 or signal.shape != x.shape:
@@ -298,6 +301,12 @@ def check_data(x_name, x, signal, sigma, n_free):
     if sigma is not None:
         sigma = np.broadcast_to(as_float_array("sigma", sigma, low=0.0, low_open=True),
                                 signal.shape).astype(float)
+        # Below this share of the signal no measurement resolves anything, and the weighted
+        # residuals (residual / sigma) would overflow.
+        floor = _SIGMA_FLOOR * float(np.max(np.abs(signal), initial=0.0))
+        if sigma.size and float(sigma.min()) < floor:
+            raise ValueError(f"sigma = {float(sigma.min()):.3g} is not allowed; allowed: >= "
+                             f"{floor:.3g} ({_SIGMA_FLOOR:g} x the largest |signal|)")
     if signal.size <= n_free:
         raise ValueError(f"{x_name} has {signal.size} points; allowed: more points than the "
                          f"{n_free} free parameters")
