@@ -125,7 +125,7 @@ def _mutate_value(rng, value):
         return _WEIRD[rng.integers(len(_WEIRD))]
     if choice == 4 and isinstance(value, str) and " " in value:
         num, unit = value.split(" ", 1)
-        scale = 10.0 ** rng.choice([-300, -30, -12, -6, 6, 12, 30, 300])
+        scale = 10.0 ** int(rng.choice([-300, -30, -12, -6, 6, 12, 30, 300]))
         try:
             return f"{float(num) * scale:g} {unit}"
         except ValueError:
@@ -133,7 +133,7 @@ def _mutate_value(rng, value):
     if choice == 5:
         return [math.nan, math.inf, -math.inf, -0.0, 1e308, -1e308, 5e-324][rng.integers(7)]
     if choice == 6 and isinstance(value, (int, float)) and not isinstance(value, bool):
-        return value * float(10.0 ** rng.choice([-300, -20, 20, 300])) * rng.choice([-1, 1])
+        return value * 10.0 ** int(rng.choice([-300, -20, 20, 300])) * int(rng.choice([-1, 1]))
     if choice == 7 and isinstance(value, list):
         return [] if rng.random() < 0.3 else value * int(rng.integers(2, 5))
     if choice == 8 and isinstance(value, list) and value:
@@ -315,7 +315,7 @@ def _csv_mutation(rng, text: str) -> str | bytes:
         cells = lines[r].split(",")
         j = rng.integers(len(cells))
         try:
-            cells[j] = repr(float(cells[j]) * float(10.0 ** rng.choice([-300, 300, 30])))
+            cells[j] = repr(float(cells[j]) * 10.0 ** int(rng.choice([-300, 300, 30])))
         except ValueError:
             cells[j] = "1e300"
         lines[r] = ",".join(cells)
