@@ -51,6 +51,8 @@ y = {{ start = "-1 cm", stop = "1 cm", points = {points} }}
 PROBES = {
     # (design text, command, the key the line must name, whether the line names bytes)
     "zero plane normal": (BASE + RECEIVER + _plane("[0, 0, 0]"), "map", "plane.normal", False),
+    "plane through a column": (BASE + RECEIVER + _plane().replace('"1.5 m"', '"1.5e-30 m"'),
+                               "map", "plane", False),
     "1e20 THz band": (BASE + '[cone]\nband = ["0.1 THz", "1e20 THz"]\n', "pattern",
                       "cone.band[1]", False),
     "plane map over budget": (BASE + RECEIVER + _plane(points=1601), "map", "plane", True),

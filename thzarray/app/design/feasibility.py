@@ -30,8 +30,26 @@ def _line(key, what, need, budget):
             f"{int(budget)} bytes (the memory budget): fewer points")
 
 
-def size_problems(sections, receiver_band, budget: float = DEFAULT_MEMORY_BUDGET) -> list:
-    """One line per command whose result would not fit in ``budget`` bytes.
+def _plane_points(plane, receiver_band, filaments, medium):
+    """The map's own check of its points (none closer to a column than the near field
+    allows), as a problem line or None."""
+    from thzarray.field.nearfield import _check_inputs
+    from thzarray.field.surfaces import plane_scan
+
+    try:
+        surf = plane_scan(plane.distance, grid_values(plane.x), grid_values(plane.y),
+                          normal=plane.normal, origin=plane.origin)
+        _check_inputs(filaments, np.asarray(receiver_band)[:, None, None], surf.points,
+                      medium)
+    except ValueError as exc:
+        return f"plane: {exc}"
+    return None
+
+
+def size_problems(sections, receiver_band, budget: float = DEFAULT_MEMORY_BUDGET,
+                  filaments=None, medium=None) -> list:
+    """One line per command whose result would not fit in ``budget`` bytes, and the map's
+    check of its plane points (when ``filaments`` and ``medium`` are given).
 
     Parameters
     ----------
@@ -41,6 +59,8 @@ def size_problems(sections, receiver_band, budget: float = DEFAULT_MEMORY_BUDGET
         Frequencies sampling the receiver's pass band (Hz).
     budget : float
         Memory budget (bytes).
+    filaments : sequence of Filament, optional
+    medium : Medium, optional
     """
     out = []
     n_band = 0 if receiver_band is None else int(np.size(receiver_band))
@@ -51,6 +71,9 @@ def size_problems(sections, receiver_band, budget: float = DEFAULT_MEMORY_BUDGET
         if need > budget:
             out.append(_line("plane", f"the map's exact field on {points} points x {n_band} "
                                       "band frequencies", need, budget))
+        elif filaments is not None and medium is not None:
+            problem = _plane_points(plane, receiver_band, filaments, medium)
+            out += [problem] if problem else []
     if n_band:
         ranges = (50 if sections.budget is None
                   else grid_values(sections.budget.ranges).size)

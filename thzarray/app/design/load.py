@@ -442,7 +442,8 @@ def parse_design(data: dict, path: Path | None = None) -> Design:
     check_waveform(sec.waveform, checker.problems)
     check_calibration(sec.calibration, sec, checker.problems)
     if not checker.problems:
-        checker.problems += size_problems(sec, receiver_band)
+        checker.problems += size_problems(sec, receiver_band, filaments=filaments,
+                                          medium=medium)
     source = None
     if filaments is not None and medium is not None and not checker.problems:
         source = apply_source(sec.source, filaments, medium, plasma, wavelength, estimate,
