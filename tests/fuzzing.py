@@ -157,6 +157,36 @@ _HUGE = [("observe", "theta", "points", 10**9), ("observe", "phi", "points", 10*
          ("plane", "y", "points", 4000), ("observe", "freq", "points", 10**6)]
 
 
+def _extreme(rng, d):
+    """Set one quantity of the design to the low or high end of its schema range (SI)."""
+    from thzarray.app.design.schema import SCHEMA
+    from thzarray.app.units import DIMENSIONS
+
+    spots = []
+    for section, table in d.items():
+        if section not in SCHEMA or not isinstance(table, dict):
+            continue
+        for key, value in table.items():
+            spec = SCHEMA[section].get(key)
+            if spec is None or spec.low is None or spec.high is None:
+                continue
+            sub = spec.kind.split(":")[-1]
+            if sub in DIMENSIONS or sub == "number":
+                spots.append((section, key, spec, value))
+    section, key, spec, value = spots[rng.integers(len(spots))]
+    low = spec.low if not spec.low_open else spec.low + max(abs(spec.low) * 1e-12, 1e-300)
+    end = float(low if rng.random() < 0.5 else spec.high)
+    if isinstance(value, dict):  # a grid: both ends, or a single point at the end
+        new = {"start": end, "stop": end, "points": 1}
+    elif isinstance(value, list):
+        new = [end] * len(value) if not spec.kind.startswith("vector") else \
+            [end if j == rng.integers(3) else 0.0 for j in range(3)]
+    else:
+        new = end
+    d[section][key] = new
+    return (section, key), new
+
+
 def design_cases(stem, data, rng, n):
     """``n`` mutated copies of one small example design."""
     cases = []
@@ -164,9 +194,13 @@ def design_cases(stem, data, rng, n):
     sections = [s for s in data if isinstance(data[s], dict)]
     for i in range(n):
         d = copy.deepcopy(data)
-        kind = i % 8
+        kind = i % 9
         text = None
-        if kind in (0, 1, 2):  # a wrong value at a leaf
+        if kind == 8:  # an extreme value the schema accepts (its low or high bound, in SI)
+            path, value = _extreme(rng, d)
+            names = _names(path)
+            what = f"extreme {'.'.join(map(str, path))}"
+        elif kind in (0, 1, 2):  # a wrong value at a leaf
             path, value = leaves[rng.integers(len(leaves))]
             _get_parent(d, path)[path[-1]] = _mutate_value(rng, value)
             names = _names(path)

@@ -53,6 +53,12 @@ PROBES = {
     "zero plane normal": (BASE + RECEIVER + _plane("[0, 0, 0]"), "map", "plane.normal", False),
     "plane through a column": (BASE + RECEIVER + _plane().replace('"1.5 m"', '"1.5e-30 m"'),
                                "map", "plane", False),
+    "aperture quadrature over budget": (
+        BASE.replace('[filament]\nlength = "30 cm"\n', '[layout]\nkind = "hexagonal"\n'
+                     'rings = 1\nspacing = "10 m"\nlength = "5 cm"\n')
+        + '[steering]\ntoward = ["8 deg", "30 deg"]\naperture_radius = "2 cm"\n'
+          'aperture_distance = "2 m"\nband = ["0.2 THz", "0.4 THz"]\nband_points = 3\n',
+        "compare", "steering.aperture_radius", True),
     "1e20 THz band": (BASE + '[cone]\nband = ["0.1 THz", "1e20 THz"]\n', "pattern",
                       "cone.band[1]", False),
     "plane map over budget": (BASE + RECEIVER + _plane(points=1601), "map", "plane", True),
@@ -131,3 +137,23 @@ def test_the_waveform_estimate_refuses_where_waveform_refuses():
             assert "memory_budget" in str(exc)
             refused_there = True
         assert refused_here == refused_there == (budget < need)
+
+
+def test_the_aperture_quadrature_is_refused_before_it_is_built():
+    from thzarray.air.medium import Medium
+    from thzarray.array.layouts import hexagonal
+    from thzarray.array.targets import Aperture, target_field_bytes, target_fields
+
+    medium = Medium.vacuum()
+    small = Aperture(0.1, 0.5, radius=0.005, distance=0.5)
+    fils = hexagonal(1, 2e-3, 0.05)
+    # node_count is the number of nodes the quadrature builds (bookkeeping).
+    assert small.node_count(fils, 0.4e12, medium) == small.nodes(fils, 0.4e12, medium)[0].size
+    freq = np.array([0.2e12, 0.3e12, 0.4e12])
+    assert target_field_bytes(fils, small, freq, medium) == 64 * 7 * 3 * small.node_count(
+        fils, 0.4e12, medium)
+    wide = hexagonal(1, 10.0, 0.05)
+    big = Aperture(0.14, 0.5, radius=0.02, distance=2.0)
+    assert target_field_bytes(wide, big, freq, medium) > 2 * 2**30
+    with pytest.raises(ValueError, match=r"^target_fields: the result needs"):
+        target_fields(wide, big, freq, medium)

@@ -38,6 +38,7 @@ from thzarray.array.arrayfield import filament_fields
 from thzarray.base.band import band_weights, check_band
 from thzarray.base.checks import as_float_array, check_scalar
 from thzarray.base.geometry import unit_vectors
+from thzarray.base.memory import DEFAULT_MEMORY_BUDGET, check_result_fits
 from thzarray.source.filament import as_filaments, layout_extent
 from thzarray.source.plasma import Plasma
 
@@ -46,6 +47,7 @@ __all__ = [
     "Direction",
     "TargetFields",
     "check_target",
+    "target_field_bytes",
     "target_fields",
 ]
 
@@ -78,6 +80,10 @@ class Direction:
     def replace(self, **changes):
         """A copy with some parameters changed."""
         return Direction(**{"theta": self.theta, "phi": self.phi, **changes})
+
+    def node_count(self, filaments, freq_max, medium) -> int:
+        """One node."""
+        return 1
 
     def nodes(self, filaments, freq_max, medium):
         """One node: theta (1,), phi (1,) and weight (1,) = 1."""
@@ -123,6 +129,17 @@ class Aperture:
         """Solid angle the aperture subtends (sr): 2 pi (1 - R / sqrt(R^2 + a^2))."""
         return 2 * np.pi * (1 - self.distance / np.hypot(self.distance, self.radius))
 
+    def _grid(self, filaments, freq_max, medium):
+        """(radial panels, azimuths) of the quadrature (see :meth:`nodes`)."""
+        k = 2 * np.pi * freq_max * medium.n_thz / c
+        spread = k * layout_extent(filaments) * self.radius / self.distance
+        return int(np.ceil(spread / np.pi)) + 1, 2 * int(np.ceil(spread)) + 12
+
+    def node_count(self, filaments, freq_max, medium) -> int:
+        """Number of quadrature nodes :meth:`nodes` returns (computed without them)."""
+        panels, naz = self._grid(filaments, freq_max, medium)
+        return 8 * panels * naz
+
     def nodes(self, filaments, freq_max, medium):
         """Quadrature over the aperture: theta (J,), phi (J,), solid-angle weights (J,) (sr).
 
@@ -130,10 +147,7 @@ class Aperture:
         enough nodes for the phase spread k_max * extent * (radius / distance) of the
         filaments' pattern across the aperture.
         """
-        k = 2 * np.pi * freq_max * medium.n_thz / c
-        spread = k * layout_extent(filaments) * self.radius / self.distance
-        panels = int(np.ceil(spread / np.pi)) + 1
-        naz = 2 * int(np.ceil(spread)) + 12
+        panels, naz = self._grid(filaments, freq_max, medium)
         x8, w8 = roots_legendre(8)
         edges = np.linspace(0.0, self.radius, panels + 1)
         half, mid = 0.5 * np.diff(edges), 0.5 * (edges[1:] + edges[:-1])
@@ -245,6 +259,14 @@ class TargetFields:
         return float(np.sum(mag.sum(axis=0) ** 2))
 
 
+def target_field_bytes(filaments, target, freq, medium) -> int:
+    """Bytes :func:`target_fields` allocates for its fields (columns x band x nodes)."""
+    fils = as_filaments(filaments)
+    freq = np.atleast_1d(np.asarray(freq, dtype=float))
+    nodes = target.node_count(fils, float(freq.max()), medium)
+    return 64 * len(fils) * freq.size * nodes
+
+
 def target_fields(filaments, target, freq, medium: Medium | None = None,
                   plasma: Plasma | None = None, spectral_weight=None) -> TargetFields:
     """Column fields at a target's quadrature nodes, weighted for the band sum.
@@ -268,6 +290,10 @@ def target_fields(filaments, target, freq, medium: Medium | None = None,
     medium = Medium.vacuum() if medium is None else medium
     freq = check_band(freq)
     bw = band_weights(freq, spectral_weight)
+    # The fields and their weighted copy: complex, two components, per column, frequency
+    # and node; refused up front when they cannot fit.
+    check_result_fits("target_fields", target_field_bytes(fils, target, freq, medium),
+                      DEFAULT_MEMORY_BUDGET)
     th, ph, nw = target.nodes(fils, freq[-1], medium)
     g = filament_fields(fils, freq[:, None], th[None, :], ph[None, :], medium, plasma)
     scale = np.sqrt(2 * medium.n_thz * epsilon_0 * c * bw[:, None] * nw[None, :])

@@ -198,12 +198,31 @@ def _computed(design, target, band, method):
     return steering_delays(design.filaments, target.theta, target.phi, design.medium), None
 
 
+def _check_target_size(design, target, freq):
+    """Refuse an aperture whose quadrature cannot fit (gains, tolerances and the optimiser
+    all evaluate the columns' fields at its nodes); ``check`` runs this too."""
+    from thzarray.array.targets import target_field_bytes
+    from thzarray.base.memory import DEFAULT_MEMORY_BUDGET
+
+    if not isinstance(target, Aperture):
+        return
+    need = target_field_bytes(design.filaments, target, freq, design.medium)
+    if need > DEFAULT_MEMORY_BUDGET:
+        raise ValueError(f"steering.aperture_radius: {target.radius:g} m at "
+                         f"{target.distance:g} m needs {need} bytes ({need / 2**30:.3g} GiB) of "
+                         f"fields over the aperture for {len(design.filaments)} columns and "
+                         f"{np.size(freq)} band frequencies; allowed: at most "
+                         f"{DEFAULT_MEMORY_BUDGET} bytes: a smaller aperture or a compacter "
+                         "layout")
+
+
 def phasing(design: Design, toward=None, band=None) -> Phasing:
     """Resolve the design's delays, target and band (module docstring)."""
     from thzarray.array.layouts import with_delays
 
     freq, band_source = band_of(design, band)
     target, target_source = target_of(design, freq, toward)
+    _check_target_size(design, target, freq)
     st = design.steering
     method = "true-time" if st is None else st.method
     result = None
