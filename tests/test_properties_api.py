@@ -58,6 +58,27 @@ def test_filament_refuses_an_axis_without_a_direction(axis):
         Filament(0.1, axis=axis)
 
 
+@pytest.mark.parametrize("name,kw", [
+    ("start", dict(start=(1e305, 0.0, 0.0))), ("start", dict(start=(0.0, -2e6, 0.0))),
+    ("start", dict(start=(np.nan, 0.0, 0.0))), ("delay", dict(delay=1e300)),
+    ("delay", dict(delay=-2.0)), ("amplitude", dict(amplitude=1e300)),
+    ("amplitude", dict(amplitude=np.inf)),
+])
+def test_filament_refuses_positions_delays_amplitudes_out_of_range(name, kw):
+    # Issue 12: a start at 1e305 m or a delay of 1e300 s gave NaN far fields with exit 0.
+    with pytest.raises(ValueError, match=rf"^{name}"):
+        Filament(0.1, **kw)
+
+
+@given(start=st.tuples(*[st.floats(-1e6, 1e6)] * 3), delay=st.floats(-1.0, 1.0),
+       amplitude=st.floats(-1e50, 1e50), freq=FREQ, theta=THETA)
+def test_far_field_at_the_ends_of_the_filament_ranges_is_finite(start, delay, amplitude, freq,
+                                                               theta):
+    f = Filament(1e3, start=start, delay=delay, amplitude=amplitude)
+    ff = far_field(f, freq, theta, 0.0, MEDIA[1])
+    assert np.all(np.isfinite(ff.cartesian)) and np.all(np.isfinite(ff.energy_density))
+
+
 @given(length=st.one_of(st.floats(max_value=0.0), st.floats(min_value=1.0001e3),
                         st.sampled_from([np.nan, np.inf, -np.inf, 1e-10])))
 def test_filament_refuses_a_length_out_of_range(length):

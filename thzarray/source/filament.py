@@ -58,6 +58,11 @@ PROFILE_SAMPLES = 1025
 # Longest column accepted (m) and shortest; both generous bounds against typing errors.
 _MAX_LENGTH = 1e3
 _MIN_LENGTH = 1e-9
+# Largest |coordinate| of a start (m), |delay| (s) and |amplitude|: far beyond any bench,
+# and small enough that phases k x, w t and energies |amplitude|^2 stay finite at 100 THz.
+_MAX_POSITION = 1e6
+_MAX_DELAY = 1.0
+_MAX_AMPLITUDE = 1e50
 # Largest |d . axis| of a transverse current direction (after normalising d).
 PERPENDICULAR_TOLERANCE = 1e-9
 # Gauss-Legendre nodes per piece for the centroid of |w| of a complex or sign-changing profile.
@@ -95,14 +100,14 @@ class Filament:
     length : float
         Length of the column (m), > 0.
     start : 3-sequence of float
-        Position where the column begins (m).
+        Position where the column begins (m), coordinates within +-1e6 m.
     axis : 3-sequence of float
         Direction of propagation of the pulse; normalised here (scaled first, so huge or
         tiny components are fine); must not be zero.
     delay : float
-        Time at which the pulse passes ``start`` (s).
+        Time at which the pulse passes ``start`` (s), -1 to 1 s.
     amplitude : float
-        Factor on this column's current (dimensionless, 1 by default).
+        Factor on this column's current (dimensionless, 1 by default), within +-1e50.
     profile : callable or (z, w) pair of arrays, optional
         Longitudinal profile w(s) along the column, s in metres from ``start``, real or
         complex. A callable must accept an array of s and return an array of the same
@@ -132,10 +137,16 @@ class Filament:
         set_ = object.__setattr__
         length = check_scalar("length", self.length, low=_MIN_LENGTH, high=_MAX_LENGTH, unit="m")
         set_(self, "length", length)
-        set_(self, "start", tuple(check_vector3("start", self.start).tolist()))
+        start = check_vector3("start", self.start)
+        if np.max(np.abs(start)) > _MAX_POSITION:
+            raise ValueError(f"start = {shorten(repr(tuple(start.tolist())))} is not allowed; "
+                             f"allowed: coordinates within +-{_MAX_POSITION:g} m")
+        set_(self, "start", tuple(start.tolist()))
         set_(self, "axis", tuple(unit_vector("axis", self.axis).tolist()))
-        set_(self, "delay", check_scalar("delay", self.delay, unit="s"))
-        set_(self, "amplitude", check_scalar("amplitude", self.amplitude))
+        set_(self, "delay", check_scalar("delay", self.delay, low=-_MAX_DELAY, high=_MAX_DELAY,
+                                         unit="s"))
+        set_(self, "amplitude", check_scalar("amplitude", self.amplitude, low=-_MAX_AMPLITUDE,
+                                             high=_MAX_AMPLITUDE))
         if self.current_direction is not None:
             set_(self, "current_direction", _transverse_direction(self.current_direction,
                                                                   np.asarray(self.axis)))
