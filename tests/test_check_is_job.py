@@ -59,6 +59,10 @@ PROBES = {
         + '[steering]\ntoward = ["8 deg", "30 deg"]\naperture_radius = "2 cm"\n'
           'aperture_distance = "2 m"\nband = ["0.2 THz", "0.4 THz"]\nband_points = 3\n',
         "compare", "steering.aperture_radius", True),
+    "two-colour chart of a thousand metres": (
+        BASE + '[plasma]\nelectron_density = "1e16 cm^-3"\ncollision_rate = "2e12 1/s"\n'
+        '[source]\nkind = "two-colour"\n[cone]\nlengths = { start = "1 km", stop = "1 km", '
+        'points = 1 }\n', "pattern", "cone.lengths", False),
     "1e20 THz band": (BASE + '[cone]\nband = ["0.1 THz", "1e20 THz"]\n', "pattern",
                       "cone.band[1]", False),
     "plane map over budget": (BASE + RECEIVER + _plane(points=1601), "map", "plane", True),

@@ -16,12 +16,15 @@ import numpy as np
 from thzarray.app.design.checker import grid_values
 from thzarray.base.memory import DEFAULT_MEMORY_BUDGET
 
-__all__ = ["size_problems"]
+__all__ = ["MAX_TWO_COLOUR_PERIODS", "size_problems", "two_colour_problems"]
 
 # Bytes a point of an exact near-field result takes (E and H, complex, 3 components), as
 # thzarray.field.nearfield.fields_at counts them; a waveform point (complex, 3 components)
 # as thzarray.detect.waveform.waveform counts them.
 _NEAR_BYTES = 96
+MAX_TWO_COLOUR_PERIODS = 1024
+"""Most dephasing lengths one two-colour column may span (64 profile samples each): the
+columns of the design and of its cone chart are sampled pieces, whose number sets the cost."""
 _WAVEFORM_BYTES = 48
 
 
@@ -97,4 +100,26 @@ def size_problems(sections, receiver_band, budget: float = DEFAULT_MEMORY_BUDGET
             out.append(_line("waveform.ranges", f"the waveforms at {len(w.ranges)} ranges x "
                                                 f"{freq.size + time.size} samples", need,
                              budget))
+    return out
+
+
+def two_colour_problems(sections, filaments, dephasing_length) -> list:
+    """Two-colour columns (the design's, and the longest of its cone chart) spanning more
+    than :data:`MAX_TWO_COLOUR_PERIODS` dephasing lengths, one line each."""
+    out = []
+    limit = MAX_TWO_COLOUR_PERIODS * dephasing_length
+    allowed = (f"allowed: at most {MAX_TWO_COLOUR_PERIODS} (columns up to {limit:.4g} m), or "
+               "a longer source.dephasing_length")
+    longest = max(f.length for f in filaments)
+    if longest > limit:
+        where = next((k for k in ("layout", "filament", "filaments", "laser")
+                      if getattr(sections, k) is not None), "filament")
+        out.append(f"{where}.length: a two-colour column of {longest:.4g} m spans "
+                   f"{longest / dephasing_length:.4g} dephasing lengths of "
+                   f"{dephasing_length:.4g} m; {allowed}")
+    chart = 2.0 if sections.cone is None else float(grid_values(sections.cone.lengths).max())
+    if chart > limit:
+        out.append(f"cone.lengths: the chart's two-colour column of {chart:.4g} m spans "
+                   f"{chart / dephasing_length:.4g} dephasing lengths of "
+                   f"{dephasing_length:.4g} m; {allowed}")
     return out

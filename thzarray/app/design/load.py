@@ -27,7 +27,7 @@ from thzarray.app.design.detection import (
     line_list,
     receiver_of,
 )
-from thzarray.app.design.feasibility import size_problems
+from thzarray.app.design.feasibility import size_problems, two_colour_problems
 from thzarray.app.design.schema import (
     KIND_KEYS,
     MAX_FILAMENTS,
@@ -451,6 +451,9 @@ def parse_design(data: dict, path: Path | None = None) -> Design:
         if source is not None:
             filaments, plasma = source.filaments, source.plasma
             notes += list(source.notes)
+            if source.dephasing_length is not None:
+                checker.problems += two_colour_problems(sec, filaments,
+                                                        source.dephasing_length)
     if checker.problems:
         raise DesignError(checker.problems)
     if filaments is None or medium is None or grid is None or sec.design is None:
