@@ -3,7 +3,8 @@
 Every file the tool writes goes through :func:`write_bytes` / :func:`write_text`: the data
 are written to a temporary file in the same directory and moved into place with
 ``os.replace``, so a reader never sees half a file and an interrupted run leaves the old
-file intact.
+file intact and no temporary behind. Finished files get the mode the process umask gives
+(as ``open`` would), not the 0600 of the temporary.
 """
 
 from __future__ import annotations
@@ -12,7 +13,10 @@ import os
 import tempfile
 from pathlib import Path
 
-__all__ = ["OutputExists", "check_writable", "write_bytes", "write_text", "atomic_path"]
+from thzarray.base.checks import shorten
+
+__all__ = ["OutputExists", "atomic_path", "check_out_dir", "check_writable", "write_bytes",
+           "write_text"]
 
 
 class OutputExists(ValueError):
@@ -26,6 +30,42 @@ def check_writable(path, force: bool) -> Path:
         raise OutputExists(f"output {str(path)!r} exists; allowed: a new path, or --force to "
                            "overwrite")
     return path
+
+
+def check_out_dir(path, flag: str = "--out") -> Path:
+    """Raise ValueError unless ``path`` is, or can be made, a writable directory.
+
+    Checked before any work, so that an unusable output directory (an existing file, a
+    path under a file, a directory without write permission) is a one-line input error.
+    """
+    path = Path(path)
+    shown = shorten(str(path))
+    probe = path
+    while not probe.exists():
+        if probe.parent == probe:
+            break
+        probe = probe.parent
+    if probe.exists() and not probe.is_dir():
+        what = "is a file" if probe == path else f"lies under the file {shorten(str(probe))!r}"
+        raise ValueError(f"{flag} = {shown!r} {what}; allowed: a directory (existing or new)")
+    if probe.exists() and not os.access(probe, os.W_OK | os.X_OK):
+        raise ValueError(f"{flag} = {shown!r}: {shorten(str(probe))!r} is not writable; "
+                         "allowed: a directory you can write to")
+    return path
+
+
+def _umask() -> int:
+    """The process umask, read without changing it where the system allows."""
+    try:
+        with open("/proc/self/status", encoding="ascii") as fh:
+            for line in fh:
+                if line.startswith("Umask:"):
+                    return int(line.split()[1], 8)
+    except (OSError, ValueError):
+        pass
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
 
 
 class atomic_path:
@@ -48,10 +88,15 @@ class atomic_path:
         return self.tmp
 
     def __exit__(self, exc_type, exc, tb):
-        if exc_type is None:
-            os.replace(self.tmp, self.path)
-        elif self.tmp is not None and self.tmp.exists():
-            self.tmp.unlink()
+        try:
+            if exc_type is None:
+                # mkstemp creates 0600; a finished file gets what open() would give it.
+                os.chmod(self.tmp, 0o666 & ~_umask())
+                os.replace(self.tmp, self.path)
+        finally:
+            # Also on KeyboardInterrupt or an error inside chmod/replace: no temporary left.
+            if self.tmp is not None and self.tmp.exists():
+                self.tmp.unlink()
         return False
 
 

@@ -189,7 +189,11 @@ def write_all(out: Path, force: bool, formats, figures=(), tables=(), datasets=(
         plan += [(out / f"{name}.nc", "nc", ds, "") for name, ds in datasets]
     for path, _, _, _ in plan:
         check_writable(path, force)
-    out.mkdir(parents=True, exist_ok=True)
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise ValueError(f"--out = {str(out)[:80]!r} cannot be made a directory "
+                         f"({exc.strerror}); allowed: a writable directory") from None
     written = []
     for path, kind, obj, caption in plan:
         obj = obj() if callable(obj) else obj
