@@ -42,6 +42,8 @@ from thzarray.source.filament import as_filaments, layout_extent
 from thzarray.source.plasma import Plasma
 
 __all__ = [
+    "MAX_APERTURE_DISTANCE",
+    "MIN_APERTURE_RADIUS",
     "Aperture",
     "Direction",
     "TargetFields",
@@ -84,6 +86,10 @@ class Direction:
         return np.array([self.theta]), np.array([self.phi]), np.ones(1)
 
 
+MIN_APERTURE_RADIUS = 1e-9
+MAX_APERTURE_DISTANCE = 1e9
+
+
 @dataclass(frozen=True)
 class Aperture:
     """A circular aperture facing the array: the target a receiver presents.
@@ -93,9 +99,11 @@ class Aperture:
     theta, phi : float
         Direction of the aperture's centre seen from the origin (rad); theta in [0, pi].
     radius : float
-        Aperture radius (m), > 0.
+        Aperture radius (m), from ``MIN_APERTURE_RADIUS`` (1 nm, below which the weights
+        underflow) up.
     distance : float
-        Distance from the origin to the aperture's centre (m), > radius.
+        Distance from the origin to the aperture's centre (m), > radius and at most
+        ``MAX_APERTURE_DISTANCE`` (1e9 m).
     """
 
     theta: float
@@ -107,9 +115,10 @@ class Aperture:
         set_ = object.__setattr__
         set_(self, "theta", _check_theta("theta", self.theta))
         set_(self, "phi", check_scalar("phi", self.phi, unit="rad"))
-        set_(self, "radius", check_scalar("radius", self.radius, low=0.0, low_open=True, unit="m"))
+        set_(self, "radius", check_scalar("radius", self.radius, low=MIN_APERTURE_RADIUS,
+                                          high=MAX_APERTURE_DISTANCE, unit="m"))
         set_(self, "distance", check_scalar("distance", self.distance, low=self.radius,
-                                            low_open=True, unit="m"))
+                                            low_open=True, high=MAX_APERTURE_DISTANCE, unit="m"))
 
     unit = "J"
 
@@ -120,8 +129,12 @@ class Aperture:
 
     @property
     def solid_angle(self) -> float:
-        """Solid angle the aperture subtends (sr): 2 pi (1 - R / sqrt(R^2 + a^2))."""
-        return 2 * np.pi * (1 - self.distance / np.hypot(self.distance, self.radius))
+        """Solid angle the aperture subtends (sr): 2 pi (1 - R / sqrt(R^2 + a^2)).
+
+        Evaluated as 4 pi sin^2(alpha / 2), alpha = atan2(a, R), which has no cancellation
+        for a small aperture far away.
+        """
+        return 4 * np.pi * np.sin(0.5 * np.arctan2(self.radius, self.distance)) ** 2
 
     def nodes(self, filaments, freq_max, medium):
         """Quadrature over the aperture: theta (J,), phi (J,), solid-angle weights (J,) (sr).

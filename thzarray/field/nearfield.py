@@ -57,6 +57,7 @@ point lies well outside the plasma; a real filament core is some 100 um across).
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -170,7 +171,7 @@ def _distance_to_columns(points, fils):
     return best.reshape(points.shape[:-1])
 
 
-def _check_inputs(fils, freq, points, medium):
+def _check_inputs(fils, freq, points, medium, memory_budget):
     freq = as_float_array("freq", freq, low=0.0, low_open=True, unit="Hz")
     points = as_float_array("points", points, unit="m")
     if points.ndim == 0 or points.shape[-1] != 3:
@@ -182,6 +183,8 @@ def _check_inputs(fils, freq, points, medium):
         raise ValueError(f"freq and points have shapes {freq.shape} and {points.shape}; allowed: "
                          "freq broadcastable with points[..., 0] (e.g. freq[:, None, None] with "
                          "points of shape (ny, nx, 3))") from None
+    # Before anything of the broadcast shape is allocated (the distance test below is).
+    check_result_fits("fields_at", 96 * math.prod(shape), memory_budget)
     dist = _distance_to_columns(points, fils)
     limit = MIN_DISTANCE_WAVELENGTHS * c / (medium.n_thz * freq)
     too_close = np.broadcast_to(dist, shape) < np.broadcast_to(limit, shape)
@@ -230,11 +233,10 @@ def fields_at(filaments, freq, points, medium: Medium | None = None,
     """
     fils = as_filaments(filaments)
     medium = Medium.vacuum() if medium is None else medium
-    freq, points, shape = _check_inputs(fils, freq, points, medium)
+    freq, points, shape = _check_inputs(fils, freq, points, medium, memory_budget)
     groups, varying, column_plasma = spectral_groups(fils, medium, plasma)
-    size = int(np.prod(shape))
+    size = math.prod(shape)
     result_bytes = 96 * size  # E and H, complex, 3 components
-    check_result_fits("fields_at", result_bytes, memory_budget)
     chunk = min(_CHUNK_PAIRS, chunk_points(memory_budget, result_bytes, _TEMP_BYTES_PER_POINT))
     bf = np.broadcast_to(freq, shape)
     bxyz = [np.broadcast_to(points[..., j], shape) for j in range(3)]
