@@ -288,11 +288,25 @@ def test_output_files_follow_the_umask(tmp_path, capsys):
         assert stat.S_IMODE(f.stat().st_mode) == 0o644, f.name
 
 
-def test_numpy_warnings_never_reach_stderr(tmp_path, capsys):
-    # A long, thin sky grid at the edge of the schema exercises divisions at the pole.
-    code, _, err = run("pattern", small(tmp_path), "--out", tmp_path / "o", capsys=capsys)
+@pytest.mark.parametrize("json_flag", [[], ["--json"]])
+def test_numpy_warnings_never_reach_stderr(capsys, monkeypatch, json_flag):
+    import warnings
+
+    import thzarray.field.cone as cone
+
+    real = cone.cone_angle
+
+    def noisy(*a, **kw):
+        warnings.warn("overflow encountered in multiply", RuntimeWarning, stacklevel=1)
+        warnings.warn("a library caution", UserWarning, stacklevel=1)
+        return real(*a, **kw)
+
+    monkeypatch.setattr(cone, "cone_angle", noisy)
+    code, out, err = run("cone", "--length", "30 cm", "--freq", "0.3 THz", *json_flag,
+                         capsys=capsys)
     assert code == 0
-    assert "RuntimeWarning" not in err and "invalid value" not in err
+    assert "RuntimeWarning" not in err + out and "overflow" not in err + out
+    assert "a library caution" in err + out
 
 
 @pytest.mark.parametrize("cell", ["root:x:0:0:TOPSECRETLINE:/root", "hello world TOPSECRETLINE"])
