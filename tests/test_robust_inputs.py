@@ -334,3 +334,28 @@ def test_ctrl_c_inside_the_netcdf_writer_exits_130(tmp_path, capsys, monkeypatch
     assert code == 130
     assert err.strip() == "thzarray: interrupted"
     assert not [p.name for p in out.rglob("*")]
+
+
+@pytest.mark.parametrize("target", ["a_dir", "a_file/x.toml"])
+def test_unusable_write_path_is_one_line_before_any_work(tmp_path, capsys, array_design, target):
+    (tmp_path / "a_dir").mkdir()
+    (tmp_path / "a_file").write_text("keep me\n")
+    out = tmp_path / "o"
+    code, _, err = run("steer", array_design(), "--write", tmp_path / target, "--out", out,
+                       "--force", capsys=capsys)
+    assert code == 2
+    one_error_line(err, "output", "allowed")
+    assert not out.exists()
+    assert (tmp_path / "a_file").read_text() == "keep me\n"
+
+
+def test_ctrl_c_during_the_computation_exits_130(tmp_path, capsys, monkeypatch):
+    import thzarray.field.cone as cone
+
+    def interrupted(*a, **kw):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(cone, "cone_angle", interrupted)
+    code, out, err = run("cone", "--length", "30 cm", "--freq", "0.3 THz", capsys=capsys)
+    assert code == 130
+    assert err.strip() == "thzarray: interrupted" and not out

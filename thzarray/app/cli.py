@@ -240,6 +240,10 @@ def main(argv=None) -> int:
             from thzarray.app.output import check_out_dir
 
             check_out_dir(args.out)
+        if getattr(args, "write", None) is not None:
+            from thzarray.app.output import check_writable
+
+            check_writable(args.write, args.force)
         with warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always")
             args.caught = caught

@@ -24,11 +24,19 @@ class OutputExists(ValueError):
 
 
 def check_writable(path, force: bool) -> Path:
-    """Raise OutputExists when ``path`` exists and ``force`` is False."""
+    """Raise OutputExists when ``path`` exists and ``force`` is False.
+
+    A path that is a directory, or lies under a file, is refused (ValueError) whatever
+    ``force`` says.
+    """
     path = Path(path)
+    shown = shorten(str(path))
+    if path.is_dir():
+        raise ValueError(f"output {shown!r} is a directory; allowed: a file path")
     if path.exists() and not force:
-        raise OutputExists(f"output {str(path)!r} exists; allowed: a new path, or --force to "
+        raise OutputExists(f"output {shown!r} exists; allowed: a new path, or --force to "
                            "overwrite")
+    check_out_dir(path.parent, flag=f"output {shown!r}: directory")
     return path
 
 
@@ -80,9 +88,13 @@ class atomic_path:
         self.tmp = None
 
     def __enter__(self) -> Path:
-        self.path.parent.mkdir(parents=True, exist_ok=True)
-        fd, tmp = tempfile.mkstemp(prefix=f".{self.path.stem}.", suffix=self.path.suffix,
-                                   dir=self.path.parent)
+        try:
+            self.path.parent.mkdir(parents=True, exist_ok=True)
+            fd, tmp = tempfile.mkstemp(prefix=f".{self.path.stem}.", suffix=self.path.suffix,
+                                       dir=self.path.parent)
+        except OSError as exc:
+            raise ValueError(f"output {shorten(str(self.path))!r} cannot be written "
+                             f"({exc.strerror}); allowed: a path in a writable directory") from None
         os.close(fd)
         self.tmp = Path(tmp)
         return self.tmp
