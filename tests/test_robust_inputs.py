@@ -359,3 +359,14 @@ def test_ctrl_c_during_the_computation_exits_130(tmp_path, capsys, monkeypatch):
     code, out, err = run("cone", "--length", "30 cm", "--freq", "0.3 THz", capsys=capsys)
     assert code == 130
     assert err.strip() == "thzarray: interrupted" and not out
+
+
+@pytest.mark.parametrize("flag", ["--length", "--freq"])
+def test_long_flag_values_are_shortened(capsys, flag):
+    args = {"--length": "30 cm", "--freq": "0.3 THz"}
+    args[flag] = "9" * 100_000 + " deg deg"
+    code, _, err = run("cone", "--length", args["--length"], "--freq", args["--freq"],
+                       capsys=capsys)
+    assert code == 2
+    line = one_error_line(err, flag)
+    assert len(line) < 400
