@@ -370,3 +370,14 @@ def test_long_flag_values_are_shortened(capsys, flag):
     assert code == 2
     line = one_error_line(err, flag)
     assert len(line) < 400
+
+
+def test_steer_on_the_largest_grid_is_refused_up_front_with_the_bytes(tmp_path, capsys):
+    text = (DESIGNS / "grid_steering.toml").read_text().replace("shape = [4, 4]",
+                                                                 "shape = [64, 64]")
+    path = tmp_path / "g64.toml"
+    path.write_text(text)
+    code, _, err = run("steer", path, "--out", tmp_path / "o", capsys=capsys)
+    assert code == 2
+    one_error_line(err, "4096 columns", "GiB", "allowed")
+    assert not (tmp_path / "o").exists() or not any((tmp_path / "o").iterdir())

@@ -215,3 +215,19 @@ def test_array_factor_directivity_is_chunked_within_the_budget():
                                                               memory_budget=budget))
     assert peak < budget
     assert_allclose(small, full, rtol=1e-12)
+
+
+def test_target_fields_too_large_are_refused_before_allocating():
+    # 64 x 64 columns, 9 band frequencies and a 5 mm aperture at 0.5 m: the fields alone
+    # are 4096 x 9 x ~2000 x 2 complex numbers (~2 GiB, ~6.6 GiB with their working copies).
+    lay = layouts.grid((64, 64), 1.5e-3, 0.03)
+    target = Aperture(theta=0.175, phi=0.0, radius=5e-3, distance=0.5)
+    band = np.linspace(1e11, 5e11, 9)
+
+    def call():
+        with pytest.raises(ValueError, match=r"target fields \(4096 columns x 9 frequencies "
+                                             r"x \d+ target nodes\): the result needs"):
+            array_gain(lay, target, band)
+
+    _, peak = peak_bytes(call)
+    assert peak < 256 * 2**20  # the 4096 Filament objects themselves are ~70 MB

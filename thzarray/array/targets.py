@@ -38,6 +38,7 @@ from thzarray.array.arrayfield import filament_fields
 from thzarray.base.band import band_weights, check_band
 from thzarray.base.checks import as_float_array, check_scalar
 from thzarray.base.geometry import unit_vectors
+from thzarray.base.memory import DEFAULT_MEMORY_BUDGET, check_result_fits
 from thzarray.source.filament import as_filaments, layout_extent
 from thzarray.source.plasma import Plasma
 
@@ -86,6 +87,9 @@ class Direction:
         return np.array([self.theta]), np.array([self.phi]), np.ones(1)
 
 
+# Copies of the target fields alive at the peak (the fields, their scaled copy, and the
+# work arrays of an energy evaluation).
+_TARGET_COPIES = 3
 MIN_APERTURE_RADIUS = 1e-9
 MAX_APERTURE_DISTANCE = 1e9
 
@@ -259,7 +263,8 @@ class TargetFields:
 
 
 def target_fields(filaments, target, freq, medium: Medium | None = None,
-                  plasma: Plasma | None = None, spectral_weight=None) -> TargetFields:
+                  plasma: Plasma | None = None, spectral_weight=None, *,
+                  memory_budget: float = DEFAULT_MEMORY_BUDGET) -> TargetFields:
     """Column fields at a target's quadrature nodes, weighted for the band sum.
 
     Parameters
@@ -271,6 +276,11 @@ def target_fields(filaments, target, freq, medium: Medium | None = None,
     medium, plasma : optional
     spectral_weight : array_like, shape (F,), optional
         Spectral weight (see :func:`thzarray.base.band.band_weights`).
+    memory_budget : float
+        Bytes this call may use (default 2 GiB). The fields (N, F, J, 2) are the result and
+        every later energy needs all of them; with the working copies that the scaling and
+        the energies make (``_TARGET_COPIES`` of them) they must fit, else ValueError up
+        front with the bytes needed.
 
     Returns
     -------
@@ -282,6 +292,10 @@ def target_fields(filaments, target, freq, medium: Medium | None = None,
     freq = check_band(freq)
     bw = band_weights(freq, spectral_weight)
     th, ph, nw = target.nodes(fils, freq[-1], medium)
+    field_bytes = 16 * 2 * len(fils) * freq.size * th.size
+    check_result_fits(f"target fields ({len(fils)} columns x {freq.size} frequencies x "
+                      f"{th.size} target nodes)", _TARGET_COPIES * field_bytes, memory_budget,
+                      "fewer columns, fewer band frequencies or a smaller aperture")
     g = filament_fields(fils, freq[:, None], th[None, :], ph[None, :], medium, plasma)
     scale = np.sqrt(2 * medium.n_thz * epsilon_0 * c * bw[:, None] * nw[None, :])
     return TargetFields(g * scale[None, :, :, None], 2 * np.pi * freq, target.unit)
