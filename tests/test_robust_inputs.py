@@ -16,6 +16,8 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
 
 from thzarray.app.cli import main
 from thzarray.app.units import UnitError, parse_quantity
@@ -105,6 +107,19 @@ def test_wrong_unit_in_a_design_names_key_and_dimension(tmp_path, capsys):
     code, _, err = run("check", path, capsys=capsys)
     assert code == 2
     one_error_line(err, "cone.target_angle", "not an angle")
+
+
+# Angle units by their definitions (ISO 80000-3): 1 deg = pi/180 rad, 1 mrad = 1e-3 rad.
+_ANGLE = {"deg": np.pi / 180, "rad": 1.0, "mrad": 1e-3}
+
+
+@given(number=st.floats(-1e6, 1e6, allow_nan=False), unit=st.sampled_from(sorted(_ANGLE)),
+       extra=st.sampled_from(["{u} {u}", "{u}^2", "{u} sr", "sr", "{u} m", "{u}/s"]))
+def test_angle_units_exactly_once(number, unit, extra):
+    assert parse_quantity(f"{number!r} {unit}", "angle") == pytest.approx(number * _ANGLE[unit],
+                                                                          rel=1e-15, abs=0)
+    with pytest.raises(UnitError, match="not an angle"):
+        parse_quantity(f"{number!r} " + extra.format(u=unit), "angle")
 
 
 @pytest.mark.parametrize("text, expected", [("3 deg", np.radians(3.0)), ("50 %", 0.5),
