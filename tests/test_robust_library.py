@@ -231,3 +231,11 @@ def test_target_fields_too_large_are_refused_before_allocating():
 
     _, peak = peak_bytes(call)
     assert peak < 256 * 2**20  # the 4096 Filament objects themselves are ~70 MB
+
+
+def test_field_points_have_a_range_and_are_finite_at_its_end():
+    fil = Filament(0.02)
+    with pytest.raises(ValueError, match="points = 1e[+]300 .*<= 1e[+]09 m"):
+        field_at(fil, 3e11, [[1e300, 0.0, 0.0]])
+    e = field_at(fil, np.array([1e9, 1e14]), np.array([[1e9, -1e9, 1e9], [0.0, 0.0, 1e9]]))
+    assert np.isfinite(e).all()

@@ -73,6 +73,7 @@ from thzarray.source.filament import as_filaments
 from thzarray.source.plasma import Plasma
 
 __all__ = [
+    "MAX_POINT_COORDINATE",
     "MIN_DISTANCE_WAVELENGTHS",
     "NearField",
     "field_at",
@@ -82,6 +83,8 @@ __all__ = [
 ]
 
 MIN_DISTANCE_WAVELENGTHS = 0.01
+# Largest coordinate of a field point (m): keeps r^2 and every phase k r finite.
+MAX_POINT_COORDINATE = 1e9
 
 # Largest number of (frequency, point) pairs handled in one pass; bounds temporary memory.
 _CHUNK_PAIRS = 1 << 18
@@ -173,7 +176,8 @@ def _distance_to_columns(points, fils):
 
 def _check_inputs(fils, freq, points, medium, memory_budget):
     freq = as_float_array("freq", freq, low=0.0, low_open=True, unit="Hz")
-    points = as_float_array("points", points, unit="m")
+    points = as_float_array("points", points, low=-MAX_POINT_COORDINATE,
+                            high=MAX_POINT_COORDINATE, unit="m")
     if points.ndim == 0 or points.shape[-1] != 3:
         raise ValueError(f"points has shape {points.shape}; allowed: Cartesian points on a last "
                          "axis of size 3")
@@ -209,7 +213,7 @@ def fields_at(filaments, freq, points, medium: Medium | None = None,
         Frequency (Hz), > 0; broadcast with ``points[..., 0]``.
     points : array_like, shape (..., 3)
         Field points (m), each at least ``MIN_DISTANCE_WAVELENGTHS`` wavelengths from every
-        column.
+        column, coordinates within +-``MAX_POINT_COORDINATE`` (1e9 m).
     medium : Medium, optional
         Defaults to vacuum.
     plasma : Plasma or ColumnPlasma, optional
