@@ -17,18 +17,25 @@ from scipy.constants import c, epsilon_0, mu_0
 from scipy.special import sici
 
 from thzarray import (
+    GLASSES,
     Aperture,
     BroadbandDetector,
     Filament,
     Medium,
     array_gain,
+    calibrate_energy,
+    calibrate_field,
     directivity,
+    eo_signal_to_noise,
     far_field,
     field_at,
     fit_scan,
     layouts,
+    plate_thickness,
+    signal_to_noise,
     source_spectral_energy,
     spectral_energy,
+    stretched_duration,
     total_energy,
 )
 from thzarray.array.gain import array_factor_directivity
@@ -141,6 +148,35 @@ def test_fit_scan_names_the_non_finite_sample():
         fit_scan(angle, 1.0 + 0.1 * np.sin(30 * angle), 3e11, sigma=1e-300)
     with pytest.raises(ValueError, match="distance = 1e[+]300 .*allowed"):
         fit_scan(angle, 1.0 + 0.1 * np.sin(30 * angle), 3e11, distance=1e300)
+
+
+@pytest.mark.parametrize("call, name", [
+    (lambda: signal_to_noise(1e300, 1e-10, 1.0, 1e3), "energy"),
+    (lambda: signal_to_noise(1e-9, 1e-300, 1.0, 1e3), "nep"),
+    (lambda: signal_to_noise(1e-9, 1e-10, 1e300, 1e3), "integration_time"),
+    (lambda: eo_signal_to_noise(1e-3, 1e300, 8e-7, 1.0, 1e3), "probe_energy"),
+    (lambda: stretched_duration(1e-15, 1e300), "gdd"),
+    (lambda: stretched_duration(1e-300, 1e-26), "duration"),
+    (lambda: calibrate_energy(1e-300, 1e300), "measured energy"),
+    (lambda: calibrate_field(1.0, 1e300), "model field"),
+    (lambda: calibrate_energy(1.0, 1.0, 1e300), "uncertainty"),
+    (lambda: plate_thickness(1e300, next(iter(GLASSES))), "delay"),
+])
+def test_detector_bench_and_calibration_inputs_have_bounds(call, name):
+    with pytest.raises(ValueError, match=f"^{name} = .*allowed: finite numbers"):
+        call()
+
+
+@given(energy=st.floats(0.0, 1e3), nep=st.floats(1e-30, 1.0), t_int=st.floats(1e-9, 1e6),
+       rate=st.floats(1e-3, 1e9), gdd=st.floats(-1e-20, 1e-20), tau=st.floats(1e-16, 1e-9),
+       measured=st.floats(1e-50, 1e50), model=st.floats(1e-50, 1e50))
+def test_noise_glass_and_calibration_are_finite_inside_the_bounds(energy, nep, t_int, rate, gdd,
+                                                                   tau, measured, model):
+    assert np.isfinite(signal_to_noise(energy, nep, t_int, rate))
+    assert np.isfinite(stretched_duration(tau, gdd))
+    for cal in (calibrate_energy(measured, model, 0.1 * measured, 0.1),
+                calibrate_field(measured, model, 0.1 * measured, 0.1)):
+        assert np.isfinite([cal.energy_factor, cal.relative_uncertainty]).all()
 
 
 # --- memory budget ------------------------------------------------------------------------
