@@ -290,14 +290,29 @@ def parameters(defaults, bounds, scales, fixed, initial, allowed):
                     np.array([bounds[n][1] for n in names])), fixed, values
 
 
+# Bounds on measured numbers (any unit): residuals / sigma then square and sum without
+# overflow for any number of points a file may hold.
+MAX_SIGNAL = 1e50
+SIGMA_RANGE = (1e-50, 1e50)
+
+
+def check_signal(signal):
+    """The measured values as a finite float array with |signal| <= MAX_SIGNAL."""
+    return as_float_array("signal", signal, low=-MAX_SIGNAL, high=MAX_SIGNAL)
+
+
 def check_data(x_name, x, signal, sigma, n_free):
-    signal = as_float_array("signal", signal)
+    signal = check_signal(signal)
     if signal.ndim != 1 or signal.shape != x.shape:
         raise ValueError(f"signal has shape {signal.shape}; allowed: a 1-D array of the shape "
                          f"of {x_name} {x.shape}")
     if sigma is not None:
-        sigma = np.broadcast_to(as_float_array("sigma", sigma, low=0.0, low_open=True),
-                                signal.shape).astype(float)
+        sigma = as_float_array("sigma", sigma, low=SIGMA_RANGE[0], high=SIGMA_RANGE[1])
+        try:
+            sigma = np.broadcast_to(sigma, signal.shape).astype(float)
+        except ValueError:
+            raise ValueError(f"sigma has shape {sigma.shape}; allowed: one number or the shape "
+                             f"of signal {signal.shape}") from None
     if signal.size <= n_free:
         raise ValueError(f"{x_name} has {signal.size} points; allowed: more points than the "
                          f"{n_free} free parameters")
