@@ -33,6 +33,8 @@ __all__ = [
     "array_factor_points_numpy",
     "descending_region",
     "descending_region_numpy",
+    "lattice_factor",
+    "lattice_factor_numpy",
 ]
 
 
@@ -233,3 +235,93 @@ def descending_region_numpy(values, i0, j0, wrap):
         if np.array_equal(new, region):
             return region
         region = new
+
+
+@njit(cache=True, parallel=True)
+def _lattice_factor(k, theta, phi, origin, a1, a2, phasors, out):
+    rows, cols = phasors.shape
+    for i in prange(theta.shape[0]):
+        st = np.sin(theta[i])
+        rx = st * np.cos(phi[i])
+        ry = st * np.sin(phi[i])
+        rz = np.cos(theta[i])
+        p1 = -k * (rx * a1[0] + ry * a1[1] + rz * a1[2])
+        p2 = -k * (rx * a2[0] + ry * a2[1] + rz * a2[2])
+        p0 = -k * (rx * origin[0] + ry * origin[1] + rz * origin[2])
+        z1 = complex(np.cos(p1), np.sin(p1))
+        z2 = complex(np.cos(p2), np.sin(p2))
+        acc = 0.0j
+        for a in range(rows - 1, -1, -1):
+            row = 0.0j
+            for b in range(cols - 1, -1, -1):
+                row = row * z2 + phasors[a, b]
+            acc = acc * z1 + row
+        out[i] = acc * complex(np.cos(p0), np.sin(p0))
+
+
+@njit(cache=True, parallel=True)
+def _separable_factor(k, theta, phi, origin, a1, a2, row_phasors, col_phasors, out):
+    for i in prange(theta.shape[0]):
+        st = np.sin(theta[i])
+        rx = st * np.cos(phi[i])
+        ry = st * np.sin(phi[i])
+        rz = np.cos(theta[i])
+        p1 = -k * (rx * a1[0] + ry * a1[1] + rz * a1[2])
+        p2 = -k * (rx * a2[0] + ry * a2[1] + rz * a2[2])
+        p0 = -k * (rx * origin[0] + ry * origin[1] + rz * origin[2])
+        z1 = complex(np.cos(p1), np.sin(p1))
+        z2 = complex(np.cos(p2), np.sin(p2))
+        f1 = 0.0j
+        for a in range(row_phasors.shape[0] - 1, -1, -1):
+            f1 = f1 * z1 + row_phasors[a]
+        f2 = 0.0j
+        for b in range(col_phasors.shape[0] - 1, -1, -1):
+            f2 = f2 * z2 + col_phasors[b]
+        out[i] = f1 * f2 * complex(np.cos(p0), np.sin(p0))
+
+
+def lattice_factor(k, theta, phi, origin, a1, a2, phasors):
+    r"""Compiled array factor of phasors on a lattice at one wavenumber, by Horner's rule.
+
+    .. math:: AF(\hat r) = e^{-ik\hat r\cdot\mathbf r_0}\sum_a z_1^a \sum_b P_{ab} z_2^b,
+              \qquad z_{1,2} = e^{-ik\hat r\cdot\mathbf a_{1,2}}
+
+    Three sine/cosine pairs per direction and one complex multiply-add per lattice site.
+
+    Parameters
+    ----------
+    k : float
+        Wavenumber n_T w / c (rad/m).
+    theta, phi : ndarray, shape (M,)
+        Directions (rad).
+    origin, a1, a2 : ndarray, shape (3,)
+        Lattice origin and basis vectors (m).
+    phasors : ndarray, complex, shape (I, J) or a pair of shapes (I,) and (J,)
+        ``q e^{i w t}`` of the site a * a1 + b * a2 (zero where no column stands), or, for a
+        separable layout, the row and column factors whose outer product it is.
+
+    Returns
+    -------
+    ndarray, complex, shape (M,)
+    """
+    out = np.empty(theta.shape[0], dtype=np.complex128)
+    args = (float(k), np.ascontiguousarray(theta, dtype=float),
+            np.ascontiguousarray(phi, dtype=float), *(np.ascontiguousarray(v, dtype=float)
+                                                     for v in (origin, a1, a2)))
+    if isinstance(phasors, tuple):
+        _separable_factor(*args, *(np.ascontiguousarray(p, dtype=np.complex128)
+                                   for p in phasors), out)
+    else:
+        _lattice_factor(*args, np.ascontiguousarray(phasors, dtype=np.complex128), out)
+    return out
+
+
+def lattice_factor_numpy(k, theta, phi, origin, a1, a2, phasors):
+    """Numpy twin of :func:`lattice_factor` (the direct sum over the lattice sites)."""
+    if isinstance(phasors, tuple):
+        phasors = np.outer(phasors[0], phasors[1])
+    a, b = np.nonzero(phasors)
+    pos = origin[None, :] + a[:, None] * a1[None, :] + b[:, None] * a2[None, :]
+    st = np.sin(theta)
+    r = np.stack([st * np.cos(phi), st * np.sin(phi), np.cos(theta)], axis=-1)
+    return np.exp(-1j * k * (r @ pos.T)) @ phasors[a, b]

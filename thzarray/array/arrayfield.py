@@ -16,21 +16,45 @@ Electrodynamics, 3rd ed., sec. 9.2; C. A. Balanis, Antenna Theory, arrays chapte
 from __future__ import annotations
 
 import numpy as np
+from scipy.constants import c
 
 from thzarray.air.medium import Medium
 from thzarray.array import _kernels as _array_kernels
+from thzarray.array.lattice import find_lattice, site_phasors
+from thzarray.base.checks import shorten
 from thzarray.field.farfield import FarField, check_directions, far_field
+from thzarray.field.nufft import DEFAULT_RTOL, nufft_far_field
 from thzarray.source.filament import Filament, as_filaments
 from thzarray.source.plasma import Plasma
 
 __all__ = [
+    "METHODS",
+    "NUFFT_CROSSOVER",
     "array_factor",
     "array_far_field",
+    "check_method",
     "element_of",
     "factored_far_field",
     "filament_fields",
     "identical_elements",
 ]
+
+
+METHODS = ("auto", "direct", "nufft")
+# Columns above which method="auto" takes the non-uniform FFT for a layout whose columns
+# differ (identical columns always take element x array factor). Measured on the project's
+# shared 2-core machine by benchmarks/bench_nufft.py (README, Performance): the direct
+# compiled sum and finufft at rtol 1e-9 break even near this count for 256 x 256
+# directions at one frequency, and the ratio moves little with the number of directions.
+NUFFT_CROSSOVER = 512
+
+
+def check_method(method) -> str:
+    """``method`` as given when it is one of :data:`METHODS`, else ValueError."""
+    if not isinstance(method, str) or method not in METHODS:
+        raise ValueError(f"method = {shorten(repr(method))} is not allowed; allowed: one of "
+                         f"{', '.join(repr(m) for m in METHODS)}")
+    return method
 
 
 def _pack(fils):
@@ -97,12 +121,23 @@ def array_factor(filaments, freq, theta, phi, medium: Medium | None = None, *,
     .. math:: AF(\omega, \hat r) = \sum_n q_n e^{i(\omega t_n - k\hat r\cdot\mathbf r_n)}
 
     (C. A. Balanis, Antenna Theory, arrays chapter). For a (freq, theta, phi) grid such as
-    ``freq[:, None, None], theta[:, None], phi`` the frequencies are looped innermost.
+    ``freq[:, None, None], theta[:, None], phi`` the frequencies are looped innermost. At one
+    frequency, columns on a lattice (line, rectangular or hexagonal grid) take the row and
+    column factors of :mod:`thzarray.array.lattice` (compiled path only).
     """
     fils = as_filaments(filaments)
     medium = Medium.vacuum() if medium is None else medium
     freq, theta, phi, shape = check_directions(freq, theta, phi)
     start, delay, amplitude = _pack(fils)
+    if compiled and freq.size == 1 and len(fils) > 2:
+        lattice = find_lattice(start)
+        if lattice is not None:
+            omega = 2 * np.pi * float(freq.reshape(-1)[0])
+            phasors = site_phasors(lattice, delay, amplitude, omega)
+            bt, bp = (np.broadcast_to(x, shape).reshape(-1) for x in (theta, phi))
+            out = _array_kernels.lattice_factor(omega * medium.n_thz / c, bt, bp,
+                                                lattice.origin, lattice.a1, lattice.a2, phasors)
+            return out.reshape(shape)
     k = _grid_split(freq, theta, phi, shape)
     if k is not None:
         nd = len(shape)
@@ -150,13 +185,37 @@ def factored_far_field(filaments, freq, theta, phi, medium: Medium | None = None
 
 
 def array_far_field(filaments, freq, theta, phi, medium: Medium | None = None,
-                    plasma: Plasma | None = None, *, compiled: bool = True) -> FarField:
-    """Far field of a layout: the factored sum when the columns are identical, else the general one.
+                    plasma: Plasma | None = None, *, compiled: bool = True,
+                    method: str = "auto", rtol: float = DEFAULT_RTOL) -> FarField:
+    """Far field of a layout: the factored sum when the columns are identical, else the general
+    one, directly or by non-uniform FFT.
 
-    Parameters and returns as for :func:`thzarray.field.farfield.far_field`.
+    Parameters
+    ----------
+    filaments, freq, theta, phi, medium, plasma, compiled
+        As for :func:`thzarray.field.farfield.far_field`.
+    method : {"auto", "direct", "nufft"}
+        ``"direct"``: element x array factor for identical columns, else the general sum.
+        ``"nufft"``: :func:`thzarray.field.nufft.nufft_far_field` (within ``rtol``).
+        ``"auto"`` (default): direct for identical columns or at most
+        :data:`NUFFT_CROSSOVER` columns, the non-uniform FFT above.
+    rtol : float
+        Tolerance of the non-uniform FFT path, relative to the largest value the sum can
+        take (see :func:`~thzarray.field.nufft.nufft_far_field`); unused by the direct sums,
+        which are exact to rounding.
+
+    Returns
+    -------
+    FarField
     """
+    method = check_method(method)
     fils = as_filaments(filaments)
-    if len(fils) > 1 and identical_elements(fils):
+    identical = len(fils) > 1 and identical_elements(fils)
+    if method == "auto":
+        method = "nufft" if not identical and len(fils) > NUFFT_CROSSOVER else "direct"
+    if method == "nufft":
+        return nufft_far_field(fils, freq, theta, phi, medium, plasma, rtol=rtol)
+    if identical:
         return factored_far_field(fils, freq, theta, phi, medium, plasma, compiled=compiled)
     return far_field(fils, freq, theta, phi, medium, plasma, compiled=compiled)
 
