@@ -179,9 +179,22 @@ def factored_far_field(filaments, freq, theta, phi, medium: Medium | None = None
                          "group index or profile; allowed: identical columns for the factored "
                          "sum (use array_far_field)")
     medium = Medium.vacuum() if medium is None else medium
-    el = far_field(element_of(fils), freq, theta, phi, medium, plasma, compiled=compiled)
+    element = element_of(fils)
     af = array_factor(fils, freq, theta, phi, medium, compiled=compiled)
-    return FarField(el.freq, el.theta, el.phi, el.e_theta * af, el.e_phi * af, medium)
+    if _about_z(element):
+        # Axis and current along z, start at the origin: r.a = cos(theta), theta-hat.z =
+        # -sin(theta) and phi-hat.z = 0, so the element's field does not depend on phi.
+        el = far_field(element, freq, theta, 0.0, medium, plasma, compiled=compiled)
+        e_t, e_p = (np.broadcast_to(x, af.shape) for x in (el.e_theta, el.e_phi))
+    else:
+        el = far_field(element, freq, theta, phi, medium, plasma, compiled=compiled)
+        e_t, e_p = el.e_theta, el.e_phi
+    return FarField(freq, theta, phi, e_t * af, e_p * af, medium)
+
+
+def _about_z(element: Filament) -> bool:
+    """True when the element's axis and current direction are +-z exactly."""
+    return (abs(element.axis[2]) == 1.0 and abs(element.current[2]) == 1.0)
 
 
 def array_far_field(filaments, freq, theta, phi, medium: Medium | None = None,
