@@ -121,3 +121,30 @@ def test_bad_method_named(bad):
         sky_map(fils, [0.1], [0.0], [0.3e12], method=bad)
     with pytest.raises(ValueError, match="method"):
         steering_report(fils, Direction(0.1, 0.0), [0.3e12], method=bad)
+
+
+def test_mixed_lengths_on_lattice_equal_general_sum():
+    # common practice, no source: the per-polar-angle column factors on the lattice sites
+    # give the general sum (Jackson eq. 9.8 per column) up to rounding
+    rng = np.random.default_rng(31)
+    fils = [f.replace(length=rng.uniform(0.01, 0.05), delay=rng.uniform(0, 1e-12),
+                      amplitude=rng.uniform(0.3, 1.2)) for f in hexagonal(3, 1.7e-3, 0.02)]
+    theta = np.linspace(0.0, 0.6, 33)
+    phi = np.linspace(0.0, 2 * np.pi, 20, endpoint=False)
+    freq = np.array([0.35e12])
+    a = array_far_field(fils, freq[:, None, None], theta[:, None], phi, MEDIUM)
+    b = far_field(fils, freq[:, None, None], theta[:, None], phi, MEDIUM)
+    assert a.shape == b.shape == (1, 33, 20)
+    assert_allclose(a.e_theta, b.e_theta, rtol=0, atol=1e-12 * np.abs(b.e_theta).max())
+    assert_allclose(a.e_phi, b.e_phi, rtol=0, atol=1e-12 * np.abs(b.e_theta).max())
+
+
+def test_lattice_columns_kernel_equals_twin():
+    rng = np.random.default_rng(6)
+    n = 12
+    index = np.stack([rng.integers(0, 4, n), rng.integers(0, 5, n)], axis=1)
+    args = (3e3, rng.uniform(-50, 50, 9), rng.uniform(0, 1, 9), rng.uniform(0, 6, 7),
+            np.array([0.0, 1e-3, 2e-3]), np.array([1.5e-3, 0, 0]), np.array([0, 1.5e-3, 1e-4]),
+            index, np.exp(1j * rng.uniform(0, 6, n)), rng.uniform(0.01, 0.03, n), (4, 5))
+    assert_allclose(_kernels.lattice_columns(*args), _kernels.lattice_columns_numpy(*args),
+                    rtol=0, atol=1e-12 * 0.03 * n)

@@ -20,7 +20,7 @@ from scipy.constants import c
 
 from thzarray.air.medium import Medium
 from thzarray.array import _kernels as _array_kernels
-from thzarray.array.lattice import find_lattice, site_phasors
+from thzarray.array.lattice import find_lattice, lattice_far_field, site_phasors
 from thzarray.base.checks import shorten
 from thzarray.field.farfield import FarField, check_directions, far_field
 from thzarray.field.nufft import DEFAULT_RTOL, nufft_far_field
@@ -208,7 +208,9 @@ def array_far_field(filaments, freq, theta, phi, medium: Medium | None = None,
     filaments, freq, theta, phi, medium, plasma, compiled
         As for :func:`thzarray.field.farfield.far_field`.
     method : {"auto", "direct", "nufft"}
-        ``"direct"``: element x array factor for identical columns, else the general sum.
+        ``"direct"``: element x array factor for identical columns; at one frequency,
+        uniform +z columns with starts on a lattice by row factors
+        (:func:`thzarray.array.lattice.lattice_far_field`); else the general sum.
         ``"nufft"``: :func:`thzarray.field.nufft.nufft_far_field` (within ``rtol``).
         ``"auto"`` (default): direct for identical columns or at most
         :data:`NUFFT_CROSSOVER` columns, the non-uniform FFT above.
@@ -230,6 +232,12 @@ def array_far_field(filaments, freq, theta, phi, medium: Medium | None = None,
         return nufft_far_field(fils, freq, theta, phi, medium, plasma, rtol=rtol)
     if identical:
         return factored_far_field(fils, freq, theta, phi, medium, plasma, compiled=compiled)
+    if compiled:
+        medium = Medium.vacuum() if medium is None else medium
+        f, t, p, shape = check_directions(freq, theta, phi)
+        on_lattice = lattice_far_field(fils, f, t, p, shape, medium, plasma)
+        if on_lattice is not None:
+            return on_lattice
     return far_field(fils, freq, theta, phi, medium, plasma, compiled=compiled)
 
 

@@ -22,7 +22,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["Lattice", "find_lattice", "site_phasors"]
+__all__ = ["Lattice", "find_lattice", "lattice_far_field", "site_phasors"]
 
 # Positions agree with the lattice to this fraction of the layout's extent.
 _POSITION_TOL = 1e-10
@@ -131,3 +131,73 @@ def site_phasors(lattice: Lattice, delay, amplitude, omega):
     if np.abs(np.outer(rows, cols) - mat).max() <= 1e-13 * abs(top):
         return rows, cols
     return mat
+
+
+def _outer_angles(theta, phi, shape):
+    """(theta (T,), phi (P,)) when theta varies only along the second-last axis of ``shape``
+    and phi only along the last, else None."""
+    if len(shape) < 1:
+        return None
+    p = shape[-1]
+    bt = np.broadcast_to(theta, shape).reshape(-1, p)
+    bp = np.broadcast_to(phi, shape).reshape(-1, p)
+    if not (np.all(bt == bt[:, :1]) and np.all(bp == bp[:1, :])):
+        return None
+    return np.ascontiguousarray(bt[:, 0]), np.ascontiguousarray(bp[0])
+
+
+def lattice_far_field(fils, freq, theta, phi, shape, medium, plasma):
+    r"""Far field of uniform columns along +z with starts on a lattice, at one frequency.
+
+    The column factor :math:`L_n\operatorname{sinc}(uL_n/2)e^{iuL_n/2}` depends on the
+    polar angle only (:math:`u = \frac{\omega}{c}(n_g - n_T\cos\theta)`), so it is put on
+    the lattice sites once per polar angle and the sum over the sites taken by Horner's
+    rule (module docstring); the polarization is :math:`\hat\theta\cdot\hat z = -\sin\theta`
+    (:mod:`thzarray.field.farfield`). Exact; equal to the direct sum up to rounding.
+
+    Parameters
+    ----------
+    fils : tuple of Filament
+    freq, theta, phi : ndarray
+        Validated coordinates (Hz, rad) broadcasting to ``shape``.
+    shape : tuple of int
+    medium : Medium
+    plasma : Plasma or ColumnPlasma or None
+
+    Returns
+    -------
+    FarField or None
+        None when the columns, the frequencies or the directions do not have this form.
+    """
+    from scipy.constants import c
+
+    from thzarray.array import _kernels
+    from thzarray.field.farfield import FarField, radiation_prefactor, spectral_groups
+
+    if freq.size != 1 or len(fils) < 3:
+        return None
+    first = fils[0]
+    if any(not f.is_uniform or f.axis != (0.0, 0.0, 1.0) or not f.is_axial
+           or f.group_index != first.group_index for f in fils):
+        return None
+    groups, varying, _ = spectral_groups(fils, medium, plasma)
+    if varying or len(groups) != 1:
+        return None
+    angles = _outer_angles(theta, phi, shape)
+    lattice = find_lattice([f.start for f in fils])
+    if angles is None or lattice is None:
+        return None
+    (local, ng_key), _ = next(iter(groups.items()))
+    th, ph = angles
+    f0 = float(freq.reshape(-1)[0])
+    w = 2 * np.pi * f0
+    k = w * medium.n_thz / c
+    u = w / c * (first.group_index_in(medium) - medium.n_thz * np.cos(th))
+    phasor = np.array([f.amplitude for f in fils]) * np.exp(1j * w * np.array([f.delay
+                                                                                for f in fils]))
+    s = _kernels.lattice_columns(k, u, th, ph, lattice.origin, lattice.a1, lattice.a2,
+                                 lattice.index, phasor, np.array([f.length for f in fils]),
+                                 lattice.shape)
+    pref = complex(np.asarray(radiation_prefactor(np.array(f0), medium, local, ng_key)))
+    e_t = (pref * -np.sin(th)[:, None] * s).reshape(shape)
+    return FarField(freq, theta, phi, e_t, np.zeros(shape, dtype=complex), medium)
