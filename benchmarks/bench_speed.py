@@ -57,8 +57,10 @@ def _mixed(fils, rng):
     return [f.replace(length=f.length * (1 + 0.3 * rng.random())) for f in fils]
 
 
-def _random_positions(n, rng):
-    return [Filament(0.02 * (1 + 0.3 * rng.random()), start=(*rng.uniform(-0.01, 0.01, 2), 0.0),
+def _random_positions(n, rng, width=0.02):
+    """n mixed-length z columns at random points of a square of side ``width`` (m)."""
+    return [Filament(0.02 * (1 + 0.3 * rng.random()),
+                     start=(*rng.uniform(-width / 2, width / 2, 2), 0.0),
                      delay=rng.uniform(0, 1e-12)) for _ in range(n)]
 
 
@@ -87,7 +89,7 @@ def one_frequency():
         print(f"  {name:34s} {t_np:8.3f} {t_dir:9.3f} {t_auto:7.3f} {t_nu:8.3f} "
               f"{t_np / t_auto:7.1f}x {t_np / t_nu:8.1f}x {t_dir / t_auto:8.1f}x {err:11.1e}")
     print("  (auto: element x lattice row/column factors for identical columns; the direct "
-          f"sum up to {NUFFT_CROSSOVER} differing columns, the non-uniform FFT above)")
+          f"sum up to {NUFFT_CROSSOVER} differing columns per frequency, the non-uniform FFT above)")
 
 
 def _bare_points(fils):
@@ -111,17 +113,16 @@ def _bare_points(fils):
 def large_arrays(counts=(16, 64, 256, 1024, 4096)):
     rng = np.random.default_rng(1)
     rows = 16
-    print("mixed-length columns on a square grid, one frequency, 256 x 256 directions:")
+    print("mixed-length columns at random points (1.5 mm mean spacing), one frequency, "
+          "256 x 256 directions:")
     print(f"  {'N':>5s} {'direct s':>9s} {'nufft s':>8s} {'direct/nufft':>13s} "
           f"{'bare finufft s':>15s} {'nufft/bare':>11s} {'max rel err':>11s}")
     t_d, t_n = [], []
     for n in counts:
-        side = int(round(np.sqrt(n)))
-        fils = _mixed(grid((side, side), 1.5e-3, 0.02), rng)
-        fils = [f.replace(delay=rng.uniform(0, 1e-12)) for f in fils]
-        scale = THETA.shape[0] / rows
-        td = best_time(lambda fils=fils: far_field(fils, FREQ, THETA[:rows], PHI, MEDIUM), 1)
-        td *= scale
+        fils = _random_positions(n, rng, 1.5e-3 * np.sqrt(n))
+        part = THETA[:rows] if n > 256 else THETA
+        td = best_time(lambda fils=fils, part=part: far_field(fils, FREQ, part, PHI, MEDIUM), 1)
+        td *= THETA.shape[0] / part.shape[0]
         tn = best_time(lambda fils=fils: nufft_far_field(fils, FREQ, THETA, PHI, MEDIUM), 1)
         x, cs, s = _bare_points(fils)
         tb = best_time(lambda x=x, s=s, cs=cs: finufft.nufft3d3(*x, cs, *s, eps=1e-10), 1)
@@ -132,11 +133,29 @@ def large_arrays(counts=(16, 64, 256, 1024, 4096)):
         print(f"  {n:5d} {td:9.3f} {tn:8.3f} {td / tn:12.1f}x {tb:15.3f} {tn / tb:10.1f}x "
               f"{err:11.1e}")
     below = [n for n, a, b in zip(counts, t_d, t_n) if a < b]
-    print(f"  (direct timed on {rows} of 256 theta rows and scaled; crossover: direct faster "
+    print(f"  (direct: the general compiled sum, timed on {rows} of 256 theta rows and scaled "
+          f"above 256 columns; crossover: direct faster "
           f"for N in {below or 'none'}; NUFFT_CROSSOVER = {NUFFT_CROSSOVER})")
     fit = np.polyfit(np.log(counts), np.log(t_n), 1)[0]
     fit_d = np.polyfit(np.log(counts), np.log(t_d), 1)[0]
     print(f"  cost ~ N^{fit_d:.2f} direct, ~ N^{fit:.2f} non-uniform FFT")
+
+
+def crossover(counts=(16, 64, 256, 1024), nfreq=(1, 4, 16)):
+    """Direct compiled sum against the non-uniform FFT on 128 x 128 directions, random
+    positions, F equally spaced frequencies."""
+    rng = np.random.default_rng(2)
+    theta, phi = THETA[::2], PHI[::2]
+    print("crossover, random positions, 128 x 128 directions: direct s / nufft s")
+    for nf in nfreq:
+        freq = np.linspace(0.2e12, 0.5e12, nf)[:, None, None]
+        cells = []
+        for n in counts:
+            fils = _random_positions(n, rng, 1.5e-3 * np.sqrt(n))
+            td = best_time(lambda fils=fils: far_field(fils, freq, theta, phi, MEDIUM), 1)
+            tn = best_time(lambda fils=fils: nufft_far_field(fils, freq, theta, phi, MEDIUM), 1)
+            cells.append(f"N={n}: {td:.3f}/{tn:.3f}")
+        print(f"  F = {nf:2d}: " + ", ".join(cells))
 
 
 def reports(counts=(16, 256, 1024)):
@@ -185,6 +204,8 @@ def run(quick=False):
     one_frequency()
     print()
     large_arrays()
+    print()
+    crossover()
     print()
     reports((16, 256) if quick else (16, 256, 1024))
     print()

@@ -41,12 +41,15 @@ __all__ = [
 
 
 METHODS = ("auto", "direct", "nufft")
-# Columns above which method="auto" takes the non-uniform FFT for a layout whose columns
-# differ (identical columns always take element x array factor). Measured on the project's
-# shared 2-core machine by benchmarks/bench_nufft.py (README, Performance): the direct
-# compiled sum and finufft at rtol 1e-9 break even near this count for 256 x 256
-# directions at one frequency, and the ratio moves little with the number of directions.
-NUFFT_CROSSOVER = 512
+# method="auto" takes the non-uniform FFT for a layout whose columns differ when there are
+# more than this many columns per distinct frequency (identical columns always take element
+# x array factor). Measured on the project's shared 2-core machine by
+# benchmarks/bench_speed.py (README, Performance), random positions, 128 x 128 directions,
+# rtol 1e-9: the direct compiled sum and finufft break even between 64 and 256 columns at
+# one frequency, near 256 at 4 and above 1024 at 16 equally spaced frequencies (the direct
+# sum steps through equally spaced frequencies by a recurrence; the transform is redone
+# for each frequency).
+NUFFT_CROSSOVER = 100
 
 
 def check_method(method) -> str:
@@ -213,7 +216,7 @@ def array_far_field(filaments, freq, theta, phi, medium: Medium | None = None,
         (:func:`thzarray.array.lattice.lattice_far_field`); else the general sum.
         ``"nufft"``: :func:`thzarray.field.nufft.nufft_far_field` (within ``rtol``).
         ``"auto"`` (default): direct for identical columns or at most
-        :data:`NUFFT_CROSSOVER` columns, the non-uniform FFT above.
+        :data:`NUFFT_CROSSOVER` columns per distinct frequency, the non-uniform FFT above.
     rtol : float
         Tolerance of the non-uniform FFT path, relative to the largest value the sum can
         take (see :func:`~thzarray.field.nufft.nufft_far_field`); unused by the direct sums,
@@ -227,7 +230,9 @@ def array_far_field(filaments, freq, theta, phi, medium: Medium | None = None,
     fils = as_filaments(filaments)
     identical = len(fils) > 1 and identical_elements(fils)
     if method == "auto":
-        method = "nufft" if not identical and len(fils) > NUFFT_CROSSOVER else "direct"
+        n_freq = np.unique(check_directions(freq, theta, phi)[0]).size
+        wide = len(fils) > NUFFT_CROSSOVER * n_freq
+        method = "nufft" if not identical and wide else "direct"
     if method == "nufft":
         return nufft_far_field(fils, freq, theta, phi, medium, plasma, rtol=rtol)
     if identical:
