@@ -334,6 +334,8 @@ def _lattice_columns(k, u, theta, phi, origin, a1, a2, index, phasor, length, sh
     rows, cols = shape[0], shape[1]
     ncol = length.shape[0]
     nphi = phi.shape[0]
+    cos_phi = np.cos(phi)
+    sin_phi = np.sin(phi)
     for it in prange(theta.shape[0]):
         sites = np.zeros((rows, cols), dtype=np.complex128)
         ui = u[it]
@@ -348,8 +350,8 @@ def _lattice_columns(k, u, theta, phi, origin, a1, a2, index, phasor, length, sh
         st = np.sin(theta[it])
         ct = np.cos(theta[it])
         for ip in range(nphi):
-            rx = st * np.cos(phi[ip])
-            ry = st * np.sin(phi[ip])
+            rx = st * cos_phi[ip]
+            ry = st * sin_phi[ip]
             p1 = -k * (rx * a1[0] + ry * a1[1] + ct * a1[2])
             p2 = -k * (rx * a2[0] + ry * a2[1] + ct * a2[2])
             p0 = -k * (rx * origin[0] + ry * origin[1] + ct * origin[2])

@@ -235,14 +235,14 @@ def array_far_field(filaments, freq, theta, phi, medium: Medium | None = None,
         method = "nufft" if not identical and wide else "direct"
     if method == "nufft":
         return nufft_far_field(fils, freq, theta, phi, medium, plasma, rtol=rtol)
-    if identical:
-        return factored_far_field(fils, freq, theta, phi, medium, plasma, compiled=compiled)
     if compiled:
         medium = Medium.vacuum() if medium is None else medium
         f, t, p, shape = check_directions(freq, theta, phi)
         on_lattice = lattice_far_field(fils, f, t, p, shape, medium, plasma)
         if on_lattice is not None:
             return on_lattice
+    if identical:
+        return factored_far_field(fils, freq, theta, phi, medium, plasma, compiled=compiled)
     return far_field(fils, freq, theta, phi, medium, plasma, compiled=compiled)
 
 
