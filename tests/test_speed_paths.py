@@ -148,3 +148,27 @@ def test_lattice_columns_kernel_equals_twin():
             index, np.exp(1j * rng.uniform(0, 6, n)), rng.uniform(0.01, 0.03, n), (4, 5))
     assert_allclose(_kernels.lattice_columns(*args), _kernels.lattice_columns_numpy(*args),
                     rtol=0, atol=1e-12 * 0.03 * n)
+
+
+def test_auto_above_crossover_takes_nufft_within_tolerance(monkeypatch):
+    # common practice, no source: above the crossover "auto" gives the non-uniform FFT's
+    # result (patched to record the call), equal to the direct sum within rtol
+    from thzarray.array import arrayfield
+
+    rng = np.random.default_rng(17)
+    n = arrayfield.NUFFT_CROSSOVER + 20
+    fils = [Filament(rng.uniform(0.01, 0.04), start=(*rng.uniform(-0.01, 0.01, 2), 0.0),
+                     delay=rng.uniform(0, 1e-12)) for _ in range(n)]
+    calls = []
+    real = arrayfield.nufft_far_field
+
+    def spy(*args, **kw):
+        calls.append(kw["rtol"])
+        return real(*args, **kw)
+
+    monkeypatch.setattr(arrayfield, "nufft_far_field", spy)
+    theta, phi = np.linspace(0.0, 0.5, 30)[:, None], np.linspace(0.0, 6.0, 31)
+    got = array_far_field(fils, 0.4e12, theta, phi, MEDIUM, rtol=1e-8)
+    ref = far_field(fils, 0.4e12, theta, phi, MEDIUM)
+    assert calls == [1e-8]
+    assert_allclose(got.e_theta, ref.e_theta, rtol=0, atol=1e-8 * np.abs(ref.e_theta).max())
