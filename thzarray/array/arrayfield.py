@@ -215,8 +215,9 @@ def array_far_field(filaments, freq, theta, phi, medium: Medium | None = None,
         uniform +z columns with starts on a lattice by row factors
         (:func:`thzarray.array.lattice.lattice_far_field`); else the general sum.
         ``"nufft"``: :func:`thzarray.field.nufft.nufft_far_field` (within ``rtol``).
-        ``"auto"`` (default): direct for identical columns or at most
-        :data:`NUFFT_CROSSOVER` columns per distinct frequency, the non-uniform FFT above.
+        ``"auto"`` (default): the lattice path where it applies, element x array factor for
+        identical columns, the general sum up to :data:`NUFFT_CROSSOVER` columns per
+        distinct frequency and the non-uniform FFT above.
     rtol : float
         Tolerance of the non-uniform FFT path, relative to the largest value the sum can
         take (see :func:`~thzarray.field.nufft.nufft_far_field`); unused by the direct sums,
@@ -228,11 +229,6 @@ def array_far_field(filaments, freq, theta, phi, medium: Medium | None = None,
     """
     method = check_method(method)
     fils = as_filaments(filaments)
-    identical = len(fils) > 1 and identical_elements(fils)
-    if method == "auto":
-        n_freq = np.unique(check_directions(freq, theta, phi)[0]).size
-        wide = len(fils) > NUFFT_CROSSOVER * n_freq
-        method = "nufft" if not identical and wide else "direct"
     if method == "nufft":
         return nufft_far_field(fils, freq, theta, phi, medium, plasma, rtol=rtol)
     if compiled:
@@ -241,6 +237,11 @@ def array_far_field(filaments, freq, theta, phi, medium: Medium | None = None,
         on_lattice = lattice_far_field(fils, f, t, p, shape, medium, plasma)
         if on_lattice is not None:
             return on_lattice
+    identical = len(fils) > 1 and identical_elements(fils)
+    if method == "auto" and not identical:
+        n_freq = np.unique(check_directions(freq, theta, phi)[0]).size
+        if len(fils) > NUFFT_CROSSOVER * n_freq:
+            return nufft_far_field(fils, freq, theta, phi, medium, plasma, rtol=rtol)
     if identical:
         return factored_far_field(fils, freq, theta, phi, medium, plasma, compiled=compiled)
     return far_field(fils, freq, theta, phi, medium, plasma, compiled=compiled)
