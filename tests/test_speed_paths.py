@@ -172,3 +172,20 @@ def test_auto_above_crossover_takes_nufft_within_tolerance(monkeypatch):
     ref = far_field(fils, 0.4e12, theta, phi, MEDIUM)
     assert calls == [1e-8]
     assert_allclose(got.e_theta, ref.e_theta, rtol=0, atol=1e-8 * np.abs(ref.e_theta).max())
+
+
+@pytest.mark.parametrize("method", ["nufft", "auto"])
+def test_array_factor_by_nufft_equals_direct_sum(method):
+    # Balanis, arrays chapter: AF = sum_n q_n exp(i(w t_n - k r.r_n)), written out here;
+    # the non-uniform FFT's error is within rtol of sum |q_n| (Barnett et al. 2019)
+    rng = np.random.default_rng(23)
+    n = 260
+    fils = [Filament(0.02, start=tuple(rng.uniform(-0.02, 0.02, 3)),
+                     delay=rng.uniform(0, 2e-12), amplitude=rng.uniform(-1, 1))
+            for _ in range(n)]
+    theta = rng.uniform(0.0, 1.0, 300)
+    phi = rng.uniform(0.0, 2 * np.pi, 300)
+    for f in ([0.3e12], [0.2e12, 0.5e12]):
+        ref = np.stack([_direct_af(fils, fj, theta, phi) for fj in f])
+        got = array_factor(fils, np.array(f)[:, None], theta, phi, MEDIUM, method=method)
+        assert_allclose(got, ref, rtol=0, atol=1e-9 * sum(abs(x.amplitude) for x in fils))

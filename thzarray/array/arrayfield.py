@@ -21,9 +21,10 @@ from scipy.constants import c
 from thzarray.air.medium import Medium
 from thzarray.array import _kernels as _array_kernels
 from thzarray.array.lattice import find_lattice, lattice_far_field, site_phasors
-from thzarray.base.checks import shorten
+from thzarray.base.checks import check_scalar, shorten
+from thzarray.base.geometry import unit_vectors
 from thzarray.field.farfield import FarField, check_directions, far_field
-from thzarray.field.nufft import DEFAULT_RTOL, nufft_far_field
+from thzarray.field.nufft import DEFAULT_RTOL, nufft_far_field, point_sums
 from thzarray.source.filament import Filament, as_filaments
 from thzarray.source.plasma import Plasma
 
@@ -100,7 +101,8 @@ def _grid_split(freq, theta, phi, shape):
 
 
 def array_factor(filaments, freq, theta, phi, medium: Medium | None = None, *,
-                 compiled: bool = True) -> np.ndarray:
+                 compiled: bool = True, method: str = "auto",
+                 rtol: float = DEFAULT_RTOL) -> np.ndarray:
     r"""Array factor of the columns' starts, delays and amplitudes.
 
     Parameters
@@ -114,6 +116,14 @@ def array_factor(filaments, freq, theta, phi, medium: Medium | None = None, *,
         Defaults to vacuum (only ``n_thz`` enters).
     compiled : bool
         Numba kernels (default) or their numpy twins.
+    method : {"auto", "direct", "nufft"}
+        ``"nufft"``: one type-3 non-uniform FFT per distinct frequency
+        (:func:`thzarray.field.nufft.point_sums`, error within ``rtol`` of the sum of
+        ``|q_n|``); ``"auto"``: the lattice path at one frequency where it applies, the
+        non-uniform FFT above :data:`NUFFT_CROSSOVER` columns per distinct frequency, the
+        direct sum otherwise; ``"direct"``: never the non-uniform FFT.
+    rtol : float
+        Tolerance of the non-uniform FFT path.
 
     Returns
     -------
@@ -129,9 +139,18 @@ def array_factor(filaments, freq, theta, phi, medium: Medium | None = None, *,
     column factors of :mod:`thzarray.array.lattice` (compiled path only).
     """
     fils = as_filaments(filaments)
+    method = check_method(method)
     medium = Medium.vacuum() if medium is None else medium
     freq, theta, phi, shape = check_directions(freq, theta, phi)
     start, delay, amplitude = _pack(fils)
+    n_freq = np.unique(freq).size
+    if method == "nufft" or (method == "auto" and len(fils) > NUFFT_CROSSOVER * n_freq
+                             and not (compiled and n_freq == 1 and find_lattice(start))):
+        check_scalar("rtol", rtol, low=1e-13, high=1e-2)
+        bf = np.broadcast_to(freq, shape).reshape(-1)
+        r, _, _ = unit_vectors(np.broadcast_to(theta, shape).reshape(-1),
+                               np.broadcast_to(phi, shape).reshape(-1))
+        return point_sums(bf, r, start, delay, amplitude, medium.n_thz, rtol).reshape(shape)
     if compiled and freq.size == 1 and len(fils) > 2:
         lattice = find_lattice(start)
         if lattice is not None:
@@ -159,10 +178,12 @@ def array_factor(filaments, freq, theta, phi, medium: Medium | None = None, *,
 
 
 def factored_far_field(filaments, freq, theta, phi, medium: Medium | None = None,
-                       plasma: Plasma | None = None, *, compiled: bool = True) -> FarField:
+                       plasma: Plasma | None = None, *, compiled: bool = True,
+                       method: str = "auto", rtol: float = DEFAULT_RTOL) -> FarField:
     r"""Far field of a layout of identical columns as element pattern times array factor.
 
-    Parameters and returns as for :func:`thzarray.field.farfield.far_field`.
+    Parameters and returns as for :func:`thzarray.field.farfield.far_field`; ``method`` and
+    ``rtol`` choose how the array factor is summed (:func:`array_factor`).
 
     Raises
     ------
@@ -183,7 +204,8 @@ def factored_far_field(filaments, freq, theta, phi, medium: Medium | None = None
                          "sum (use array_far_field)")
     medium = Medium.vacuum() if medium is None else medium
     element = element_of(fils)
-    af = array_factor(fils, freq, theta, phi, medium, compiled=compiled)
+    af = array_factor(fils, freq, theta, phi, medium, compiled=compiled, method=method,
+                      rtol=rtol)
     if _about_z(element):
         # Axis and current along z, start at the origin: r.a = cos(theta), theta-hat.z =
         # -sin(theta) and phi-hat.z = 0, so the element's field does not depend on phi.
@@ -243,7 +265,8 @@ def array_far_field(filaments, freq, theta, phi, medium: Medium | None = None,
         if len(fils) > NUFFT_CROSSOVER * n_freq:
             return nufft_far_field(fils, freq, theta, phi, medium, plasma, rtol=rtol)
     if identical:
-        return factored_far_field(fils, freq, theta, phi, medium, plasma, compiled=compiled)
+        return factored_far_field(fils, freq, theta, phi, medium, plasma, compiled=compiled,
+                                  method=method, rtol=rtol)
     return far_field(fils, freq, theta, phi, medium, plasma, compiled=compiled)
 
 

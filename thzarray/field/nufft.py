@@ -56,7 +56,7 @@ from thzarray.field.farfield import (
 )
 from thzarray.source.filament import as_filaments
 
-__all__ = ["DEFAULT_RTOL", "axis_groups", "nufft_far_field"]
+__all__ = ["DEFAULT_RTOL", "axis_groups", "nufft_far_field", "point_sums"]
 
 DEFAULT_RTOL = 1e-9
 # finufft's requested precision is this fraction of rtol (its error estimate is not a bound).
@@ -150,6 +150,49 @@ def _group_integrals(members, n_g, axis, freq, r, medium, eps, rtol):
             acc = (sums[m] - acc) * inv_iu
         out[idx] = acc
     return out, direct
+
+
+def point_sums(freq, r, positions, delays, strengths, n_thz, rtol=DEFAULT_RTOL):
+    r"""Sums of point sources :math:`\sum_j q_j e^{i(\omega t_j - k\hat r\cdot\mathbf x_j)}`
+    by one type-3 non-uniform FFT per distinct frequency.
+
+    Parameters
+    ----------
+    freq : ndarray, shape (M,)
+        Frequency of each target (Hz).
+    r : ndarray, shape (M, 3)
+        Unit direction of each target.
+    positions : ndarray, shape (K, 3)
+        Source points (m).
+    delays : ndarray, shape (K,)
+        Source times (s).
+    strengths : ndarray, shape (K,)
+        Real or complex source factors.
+    n_thz : float
+        Phase index (k = n_thz w / c).
+    rtol : float
+        Error relative to the sum of the strengths' magnitudes (finufft's precision is a
+        tenth of it, at least 1e-14).
+
+    Returns
+    -------
+    ndarray, complex, shape (M,)
+    """
+    eps = max(_EPS_FLOOR, _EPS_FRACTION * rtol)
+    out = np.empty(freq.shape[0], dtype=complex)
+    values, inverse = np.unique(freq, return_inverse=True)
+    inverse = inverse.ravel()
+    order = np.argsort(inverse, kind="stable")
+    bounds = np.searchsorted(inverse[order], np.arange(values.size + 1))
+    xs, ys, zs = (np.ascontiguousarray(positions[:, i], dtype=float) for i in range(3))
+    for j, fj in enumerate(values):
+        idx = order[bounds[j]:bounds[j + 1]]
+        wj = 2 * np.pi * fj
+        kj = wj * n_thz / c
+        cstr = np.ascontiguousarray(strengths * np.exp(1j * wj * delays), dtype=complex)
+        targets = [np.ascontiguousarray(-kj * r[idx, i]) for i in range(3)]
+        out[idx] = finufft.nufft3d3(xs, ys, zs, cstr, *targets, eps=eps, isign=1)
+    return out
 
 
 def nufft_far_field(filaments, freq, theta, phi, medium: Medium | None = None, plasma=None, *,
