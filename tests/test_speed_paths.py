@@ -167,7 +167,8 @@ def test_auto_above_crossover_takes_nufft_within_tolerance(monkeypatch):
         return real(*args, **kw)
 
     monkeypatch.setattr(arrayfield, "nufft_far_field", spy)
-    theta, phi = np.linspace(0.0, 0.5, 30)[:, None], np.linspace(0.0, 6.0, 31)
+    theta, phi = np.linspace(0.0, 0.5, 64)[:, None], np.linspace(0.0, 6.0, 70)
+    assert theta.size * phi.size >= arrayfield.NUFFT_MIN_POINTS
     got = array_far_field(fils, 0.4e12, theta, phi, MEDIUM, rtol=1e-8)
     ref = far_field(fils, 0.4e12, theta, phi, MEDIUM)
     assert calls == [1e-8]
@@ -189,3 +190,20 @@ def test_array_factor_by_nufft_equals_direct_sum(method):
         ref = np.stack([_direct_af(fils, fj, theta, phi) for fj in f])
         got = array_factor(fils, np.array(f)[:, None], theta, phi, MEDIUM, method=method)
         assert_allclose(got, ref, rtol=0, atol=1e-9 * sum(abs(x.amplitude) for x in fils))
+
+
+def test_filament_fields_of_identical_columns_equal_each_column_alone():
+    # pattern multiplication (Balanis, arrays chapter) against each column's own far field
+    from thzarray.array.arrayfield import filament_fields
+
+    rng = np.random.default_rng(4)
+    fils = [f.replace(delay=rng.uniform(0, 1e-12), amplitude=rng.uniform(0.5, 1.5))
+            for f in grid((3, 4), 2e-3, 0.02, axis=(0.1, 0.0, 1.0))]
+    freq = np.array([0.2e12, 0.4e12])[:, None]
+    theta, phi = rng.uniform(0, 0.6, 15), rng.uniform(0, 6, 15)
+    got = filament_fields(fils, freq, theta, phi, MEDIUM)
+    for g, f in zip(got, fils):
+        ff = far_field(f.replace(delay=0.0), freq, theta, phi, MEDIUM)
+        scale = np.abs(ff.e_theta).max()
+        assert_allclose(g[..., 0], ff.e_theta, rtol=0, atol=1e-12 * scale)
+        assert_allclose(g[..., 1], ff.e_phi, rtol=0, atol=1e-12 * scale)

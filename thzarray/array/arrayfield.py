@@ -31,6 +31,7 @@ from thzarray.source.plasma import Plasma
 __all__ = [
     "METHODS",
     "NUFFT_CROSSOVER",
+    "NUFFT_MIN_POINTS",
     "array_factor",
     "array_far_field",
     "check_method",
@@ -51,6 +52,16 @@ METHODS = ("auto", "direct", "nufft")
 # sum steps through equally spaced frequencies by a recurrence; the transform is redone
 # for each frequency).
 NUFFT_CROSSOVER = 100
+# ... and only with at least this many evaluation points per distinct frequency: a transform
+# has a fixed cost near 0.1 s here (the bare finufft call on 16 columns, same benchmark),
+# which the direct sum of a thousand columns does not reach below a few thousand points.
+NUFFT_MIN_POINTS = 4096
+
+
+def _nufft_pays(columns: int, n_freq: int, shape: tuple) -> bool:
+    """Whether method="auto" takes the non-uniform FFT (see NUFFT_CROSSOVER)."""
+    points = int(np.prod(shape))
+    return columns > NUFFT_CROSSOVER * n_freq and points >= NUFFT_MIN_POINTS * n_freq
 
 
 def check_method(method) -> str:
@@ -120,7 +131,8 @@ def array_factor(filaments, freq, theta, phi, medium: Medium | None = None, *,
         ``"nufft"``: one type-3 non-uniform FFT per distinct frequency
         (:func:`thzarray.field.nufft.point_sums`, error within ``rtol`` of the sum of
         ``|q_n|``); ``"auto"``: the lattice path at one frequency where it applies, the
-        non-uniform FFT above :data:`NUFFT_CROSSOVER` columns per distinct frequency, the
+        non-uniform FFT above :data:`NUFFT_CROSSOVER` columns and from
+        :data:`NUFFT_MIN_POINTS` evaluation points per distinct frequency, the
         direct sum otherwise; ``"direct"``: never the non-uniform FFT.
     rtol : float
         Tolerance of the non-uniform FFT path.
@@ -144,7 +156,7 @@ def array_factor(filaments, freq, theta, phi, medium: Medium | None = None, *,
     freq, theta, phi, shape = check_directions(freq, theta, phi)
     start, delay, amplitude = _pack(fils)
     n_freq = np.unique(freq).size
-    if method == "nufft" or (method == "auto" and len(fils) > NUFFT_CROSSOVER * n_freq
+    if method == "nufft" or (method == "auto" and _nufft_pays(len(fils), n_freq, shape)
                              and not (compiled and n_freq == 1 and find_lattice(start))):
         check_scalar("rtol", rtol, low=1e-13, high=1e-2)
         bf = np.broadcast_to(freq, shape).reshape(-1)
@@ -238,8 +250,8 @@ def array_far_field(filaments, freq, theta, phi, medium: Medium | None = None,
         (:func:`thzarray.array.lattice.lattice_far_field`); else the general sum.
         ``"nufft"``: :func:`thzarray.field.nufft.nufft_far_field` (within ``rtol``).
         ``"auto"`` (default): the lattice path where it applies, element x array factor for
-        identical columns, the general sum up to :data:`NUFFT_CROSSOVER` columns per
-        distinct frequency and the non-uniform FFT above.
+        identical columns, the non-uniform FFT above :data:`NUFFT_CROSSOVER` columns and
+        from :data:`NUFFT_MIN_POINTS` points per distinct frequency, else the general sum.
     rtol : float
         Tolerance of the non-uniform FFT path, relative to the largest value the sum can
         take (see :func:`~thzarray.field.nufft.nufft_far_field`); unused by the direct sums,
@@ -261,8 +273,8 @@ def array_far_field(filaments, freq, theta, phi, medium: Medium | None = None,
             return on_lattice
     identical = len(fils) > 1 and identical_elements(fils)
     if method == "auto" and not identical:
-        n_freq = np.unique(check_directions(freq, theta, phi)[0]).size
-        if len(fils) > NUFFT_CROSSOVER * n_freq:
+        f, _, _, shape = check_directions(freq, theta, phi)
+        if _nufft_pays(len(fils), np.unique(f).size, shape):
             return nufft_far_field(fils, freq, theta, phi, medium, plasma, rtol=rtol)
     if identical:
         return factored_far_field(fils, freq, theta, phi, medium, plasma, compiled=compiled,
@@ -288,6 +300,18 @@ def filament_fields(filaments, freq, theta, phi, medium: Medium | None = None,
         ``sum_n g[n] * exp(i w t_n)``.
     """
     fils = as_filaments(filaments)
+    if len(fils) > 1 and identical_elements(fils):
+        # Pattern multiplication (module docstring): g_n = q_n exp(-i k r.r_n) F_el.
+        medium = Medium.vacuum() if medium is None else medium
+        freq, theta, phi, shape = check_directions(freq, theta, phi)
+        el = far_field(element_of(fils), freq, theta, phi, medium, plasma)
+        pair = np.stack(np.broadcast_arrays(el.e_theta, el.e_phi), axis=-1)
+        r, _, _ = unit_vectors(theta, phi)
+        k = 2 * np.pi * freq * medium.n_thz / c
+        start, _, amplitude = _pack(fils)
+        phase = np.exp(-1j * k[..., None] * (r @ start.T))  # shape + (N,)
+        phase = np.broadcast_to(phase, shape + (len(fils),)) * amplitude
+        return np.moveaxis(phase, -1, 0)[..., None] * pair
     parts = []
     for f in fils:
         ff = far_field(f.replace(delay=0.0), freq, theta, phi, medium, plasma)
