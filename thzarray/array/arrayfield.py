@@ -148,30 +148,36 @@ def array_factor(filaments, freq, theta, phi, medium: Medium | None = None, *,
     (C. A. Balanis, Antenna Theory, arrays chapter). For a (freq, theta, phi) grid such as
     ``freq[:, None, None], theta[:, None], phi`` the frequencies are looped innermost. At one
     frequency, columns on a lattice (line, rectangular or hexagonal grid) take the row and
-    column factors of :mod:`thzarray.array.lattice` (compiled path only).
+    column factors of :mod:`thzarray.array.lattice`, one frequency at a time while there are
+    fewer than a third as many frequencies as columns (compiled path only).
     """
     fils = as_filaments(filaments)
     method = check_method(method)
     medium = Medium.vacuum() if medium is None else medium
     freq, theta, phi, shape = check_directions(freq, theta, phi)
     start, delay, amplitude = _pack(fils)
-    n_freq = np.unique(freq).size
-    if method == "nufft" or (method == "auto" and _nufft_pays(len(fils), n_freq, shape)
-                             and not (compiled and n_freq == 1 and find_lattice(start))):
+    values = np.unique(freq)
+    # Horner on a lattice costs 6 sines and cosines per direction and frequency, the direct
+    # sum 2 per direction and column: the lattice wins while 3 F < N.
+    lattice = (find_lattice(start) if compiled and len(fils) > 2 and 3 * values.size < len(fils)
+               else None)
+    if method == "nufft" or (method == "auto" and lattice is None
+                             and _nufft_pays(len(fils), values.size, shape)):
         check_scalar("rtol", rtol, low=1e-13, high=1e-2)
         bf = np.broadcast_to(freq, shape).reshape(-1)
         r, _, _ = unit_vectors(np.broadcast_to(theta, shape).reshape(-1),
                                np.broadcast_to(phi, shape).reshape(-1))
         return point_sums(bf, r, start, delay, amplitude, medium.n_thz, rtol).reshape(shape)
-    if compiled and freq.size == 1 and len(fils) > 2:
-        lattice = find_lattice(start)
-        if lattice is not None:
-            omega = 2 * np.pi * float(freq.reshape(-1)[0])
-            phasors = site_phasors(lattice, delay, amplitude, omega)
-            bt, bp = (np.broadcast_to(x, shape).reshape(-1) for x in (theta, phi))
-            out = _array_kernels.lattice_factor(omega * medium.n_thz / c, bt, bp,
-                                                lattice.origin, lattice.a1, lattice.a2, phasors)
-            return out.reshape(shape)
+    if lattice is not None:
+        bf, bt, bp = (np.broadcast_to(x, shape).reshape(-1) for x in (freq, theta, phi))
+        out = np.empty(bf.size, dtype=complex)
+        for fj in values:
+            idx = np.flatnonzero(bf == fj) if values.size > 1 else slice(None)
+            omega = 2 * np.pi * fj
+            out[idx] = _array_kernels.lattice_factor(
+                omega * medium.n_thz / c, bt[idx], bp[idx], lattice.origin, lattice.a1,
+                lattice.a2, site_phasors(lattice, delay, amplitude, omega))
+        return out.reshape(shape)
     k = _grid_split(freq, theta, phi, shape)
     if k is not None:
         nd = len(shape)
