@@ -212,3 +212,14 @@ def test_filament_fields_of_identical_columns_equal_each_column_alone():
         scale = np.abs(ff.e_theta).max()
         assert_allclose(g[..., 0], ff.e_theta, rtol=0, atol=1e-12 * scale)
         assert_allclose(g[..., 1], ff.e_phi, rtol=0, atol=1e-12 * scale)
+
+
+def test_lattice_separable_kernel_equals_twin():
+    # common practice, no source: compiled kernel against its numpy twin
+    rng = np.random.default_rng(13)
+    args = (2.5e3, np.exp(1j * rng.uniform(0, 6, 9)) * 0.02, rng.uniform(0, 1, 9),
+            rng.uniform(0, 6, 11), np.array([1e-3, -2e-3, 0.0]), np.array([1.5e-3, 0, 0]),
+            np.array([0, 1.5e-3, 2e-4]), np.exp(1j * rng.uniform(0, 6, 4)),
+            np.exp(1j * rng.uniform(0, 6, 5)))
+    assert_allclose(_kernels.lattice_separable(*args), _kernels.lattice_separable_numpy(*args),
+                    rtol=0, atol=1e-12 * 0.02 * 20)

@@ -37,6 +37,8 @@ __all__ = [
     "lattice_columns_numpy",
     "lattice_factor",
     "lattice_factor_numpy",
+    "lattice_separable",
+    "lattice_separable_numpy",
 ]
 
 
@@ -418,3 +420,69 @@ def lattice_columns_numpy(k, u, theta, phi, origin, a1, a2, index, phasor, lengt
     half = 0.5 * u[:, None] * length[None, :]
     col = length * np.sinc(half / np.pi) * np.exp(1j * half) * phasor  # (T, N)
     return np.einsum("tn,tpn->tp", col, np.exp(-1j * k * (r @ pos.T)))
+
+
+@njit(cache=True, parallel=True)
+def _lattice_separable(k, column, theta, phi, origin, a1, a2, rows, cols, out):
+    cos_phi = np.cos(phi)
+    sin_phi = np.sin(phi)
+    for it in prange(theta.shape[0]):
+        st = np.sin(theta[it])
+        ct = np.cos(theta[it])
+        for ip in range(phi.shape[0]):
+            rx = st * cos_phi[ip]
+            ry = st * sin_phi[ip]
+            p1 = -k * (rx * a1[0] + ry * a1[1] + ct * a1[2])
+            p2 = -k * (rx * a2[0] + ry * a2[1] + ct * a2[2])
+            p0 = -k * (rx * origin[0] + ry * origin[1] + ct * origin[2])
+            z1 = complex(np.cos(p1), np.sin(p1))
+            z2 = complex(np.cos(p2), np.sin(p2))
+            f1 = 0.0j
+            for a in range(rows.shape[0] - 1, -1, -1):
+                f1 = f1 * z1 + rows[a]
+            f2 = 0.0j
+            for b in range(cols.shape[0] - 1, -1, -1):
+                f2 = f2 * z2 + cols[b]
+            out[it, ip] = column[it] * f1 * f2 * complex(np.cos(p0), np.sin(p0))
+
+
+def lattice_separable(k, column, theta, phi, origin, a1, a2, rows, cols):
+    r"""Compiled field sum of identical columns with separable phasors on a lattice.
+
+    .. math:: S(\theta, \phi) = C(\theta)\, e^{-ik\hat r\cdot\mathbf r_0}
+              \sum_a R_a z_1^a \sum_b Q_b z_2^b
+
+    (element x row factor x column factor) on the outer grid theta x phi.
+
+    Parameters
+    ----------
+    k : float
+        Wavenumber (rad/m).
+    column : ndarray, complex, shape (T,)
+        The common column factor at each polar angle (m).
+    theta : ndarray, shape (T,)
+    phi : ndarray, shape (P,)
+        The outer grid of directions (rad).
+    origin, a1, a2 : ndarray, shape (3,)
+        Lattice origin and basis (m).
+    rows, cols : ndarray, complex, shapes (I,) and (J,)
+        Factors whose outer product is the sites' phasors.
+
+    Returns
+    -------
+    ndarray, complex, shape (T, P)
+    """
+    out = np.empty((theta.shape[0], phi.shape[0]), dtype=np.complex128)
+    _lattice_separable(float(k), np.ascontiguousarray(column, dtype=np.complex128),
+                       *(np.ascontiguousarray(v, dtype=float)
+                         for v in (theta, phi, origin, a1, a2)),
+                       np.ascontiguousarray(rows, dtype=np.complex128),
+                       np.ascontiguousarray(cols, dtype=np.complex128), out)
+    return out
+
+
+def lattice_separable_numpy(k, column, theta, phi, origin, a1, a2, rows, cols):
+    """Numpy twin of :func:`lattice_separable` (the direct sum over the sites)."""
+    grid_t, grid_p = np.broadcast_arrays(theta[:, None], phi[None, :])
+    af = lattice_factor_numpy(k, grid_t.ravel(), grid_p.ravel(), origin, a1, a2, (rows, cols))
+    return column[:, None] * af.reshape(grid_t.shape)

@@ -195,9 +195,18 @@ def lattice_far_field(fils, freq, theta, phi, shape, medium, plasma):
     u = w / c * (first.group_index_in(medium) - medium.n_thz * np.cos(th))
     phasor = np.array([f.amplitude for f in fils]) * np.exp(1j * w * np.array([f.delay
                                                                                 for f in fils]))
-    s = _kernels.lattice_columns(k, u, th, ph, lattice.origin, lattice.a1, lattice.a2,
-                                 lattice.index, phasor, np.array([f.length for f in fils]),
-                                 lattice.shape)
+    length = np.array([f.length for f in fils])
+    factors = site_phasors(lattice, np.array([f.delay for f in fils]),
+                           np.array([f.amplitude for f in fils]), w)
+    if isinstance(factors, tuple) and np.all(length == length[0]):
+        # Identical columns with separable phasors: element x row factor x column factor.
+        half = 0.5 * u * length[0]
+        column = length[0] * np.sinc(half / np.pi) * np.exp(1j * half)
+        s = _kernels.lattice_separable(k, column, th, ph, lattice.origin, lattice.a1,
+                                       lattice.a2, *factors)
+    else:
+        s = _kernels.lattice_columns(k, u, th, ph, lattice.origin, lattice.a1, lattice.a2,
+                                     lattice.index, phasor, length, lattice.shape)
     pref = complex(np.asarray(radiation_prefactor(np.array(f0), medium, local, ng_key)))
     e_t = (pref * -np.sin(th)[:, None] * s).reshape(shape)
     return FarField(freq, theta, phi, e_t, np.zeros(shape, dtype=complex), medium)
