@@ -88,8 +88,9 @@ def one_frequency():
                   _err(nufft_far_field(fils, FREQ, THETA, PHI, MEDIUM).e_theta, ref))
         print(f"  {name:34s} {t_np:8.3f} {t_dir:9.3f} {t_auto:7.3f} {t_nu:8.3f} "
               f"{t_np / t_auto:7.1f}x {t_np / t_nu:8.1f}x {t_dir / t_auto:8.1f}x {err:11.1e}")
-    print("  (auto: element x lattice row/column factors for identical columns; the direct "
-          f"sum up to {NUFFT_CROSSOVER} differing columns per frequency, the non-uniform FFT above)")
+    print("  (auto: on a lattice, column factors on the sites and Horner's rule per direction "
+          "(row x column factors when identical and steered); elsewhere the direct sum up to "
+          f"{NUFFT_CROSSOVER} differing columns per frequency, the non-uniform FFT above)")
 
 
 def _bare_points(fils):
