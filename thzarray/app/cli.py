@@ -32,6 +32,10 @@ from thzarray.app.commands.receiver import cmd_budget, cmd_map
 __all__ = ["build_parser", "main"]
 
 
+# Commands that take --out but never write there: an unusable --out is not their concern.
+_WRITES_NOTHING = {"safety", "check", "cone"}
+
+
 class _Parser(argparse.ArgumentParser):
     def error(self, message):  # one line, exit 2
         raise UsageError(f"{self.prog}: {message}")
@@ -232,6 +236,14 @@ def main(argv=None) -> int:
         if getattr(args, "func", None) is None:
             parser.print_help()
             return 2
+        if args.command not in _WRITES_NOTHING and getattr(args, "out", None) is not None:
+            from thzarray.app.output import check_out_dir
+
+            check_out_dir(args.out)
+        if getattr(args, "write", None) is not None:
+            from thzarray.app.output import check_writable
+
+            check_writable(args.write, args.force)
         with warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always")
             args.caught = caught

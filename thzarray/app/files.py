@@ -9,12 +9,13 @@ messages never quote the file's content.
 from __future__ import annotations
 
 import os
+import re
 import stat
 from pathlib import Path
 
 from thzarray.base.checks import shorten
 
-__all__ = ["MAX_TABLE_BYTES", "read_text_capped"]
+__all__ = ["MAX_TABLE_BYTES", "quote_cell", "read_text_capped", "resolve_beside"]
 
 MAX_TABLE_BYTES = 16 << 20
 """Largest CSV table read (16 MiB: a few hundred thousand rows)."""
@@ -68,6 +69,20 @@ def read_text_capped(path, max_bytes: int, what: str) -> str:
         raise ValueError(f"{what} = {name!r} is not UTF-8 text (byte {exc.start}); allowed: a "
                          "UTF-8 text file") from None
     return text.removeprefix("\ufeff")
+
+
+_CELL = re.compile(r"[\w.+\-^/%]{1,24}")
+
+
+def quote_cell(cell: str) -> str:
+    """A cell of an input file as it may appear in a message.
+
+    Short cells made of the characters of numbers, column names and units are quoted; any
+    other text (prose, paths with colons, a line of some unrelated file) is described by
+    its length only, so a message never shows the content of a file that is not a table.
+    """
+    cell = cell.strip()
+    return repr(cell) if _CELL.fullmatch(cell) else f"a cell of {len(cell)} characters"
 
 
 def resolve_beside(path, base) -> Path:

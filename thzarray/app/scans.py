@@ -16,6 +16,7 @@ import re
 
 import numpy as np
 
+from thzarray.app.files import quote_cell
 from thzarray.app.tables import read_text
 from thzarray.base.checks import check_scalar
 from thzarray.inverse.scans import UNITS, fit_scan
@@ -135,15 +136,15 @@ def parse_scan_csv(text: str, source: str = "scan", to_si=None):
             except ValueError:
                 value = np.nan
             if not np.isfinite(value):
-                raise ValueError(f"{source} row {r} (line {line_no}), column {header[j]!r}: "
-                                 f"{cell!r} is not a number; allowed: finite decimal numbers")
+                raise ValueError(f"{source} row {r} (line {line_no}), column {quote_cell(header[j])}: "
+                                 f"{quote_cell(cell)} is not a number; allowed: finite decimal numbers")
             table[r - 1, j] = value
     angle_col, unit = columns["angle"]
     angle = table[:, angle_col] * _ANGLE_UNITS[unit]
     for r, value in enumerate(table[:, angle_col], start=1):
         if not 0.0 <= value * _ANGLE_UNITS[unit] <= np.pi:
             raise ValueError(f"{source} row {r} (line {rows[r - 1][0]}), column "
-                             f"{header[angle_col]!r}: {value:g} is outside the allowed range "
+                             f"{quote_cell(header[angle_col])}: {value:g} is outside the allowed range "
                              f"0 to {np.pi / _ANGLE_UNITS[unit]:g} {unit} (angle from the "
                              "filament axis)")
     sigma = None
@@ -166,7 +167,7 @@ def _columns(header, source, line_no):
         elif name in ("signal",) + _SIGMA_NAMES and name not in columns:
             columns[name] = j
         else:
-            raise ValueError(f"{source} line {line_no}: column {name!r} is not allowed "
+            raise ValueError(f"{source} line {line_no}: column {quote_cell(name)} is not allowed "
                              f"(unknown or repeated); allowed columns: {allowed}")
     for need in ("angle", "signal"):
         if need not in columns:

@@ -12,7 +12,7 @@ from pathlib import Path
 
 import numpy as np
 
-from thzarray.app.files import MAX_TABLE_BYTES, read_text_capped
+from thzarray.app.files import MAX_TABLE_BYTES, quote_cell, read_text_capped
 from thzarray.app.output import write_text
 from thzarray.array.layouts import check_separation
 from thzarray.detect.receivers import BroadbandDetector
@@ -73,22 +73,22 @@ def _layout_header(header: str, lineno: int):
         cell = raw.strip()
         name, unit = (cell, "") if cell in _LAYOUT_COLUMNS else cell.rpartition("_")[::2]
         if name not in _LAYOUT_COLUMNS or name in columns.values():
-            raise ValueError(f"layout table header (line {lineno}): column {cell[:40]!r} is "
+            raise ValueError(f"layout table header (line {lineno}): column {quote_cell(cell)} is "
                              f"unknown or repeated; allowed: {allowed}")
         kind = _LAYOUT_COLUMNS[name][0]
         if kind == "number":
             if unit:
-                raise ValueError(f"layout table header (line {lineno}): column {cell[:40]!r} "
+                raise ValueError(f"layout table header (line {lineno}): column {quote_cell(cell)} "
                                  f"takes no unit; allowed: {name}")
             factor = 1.0
         else:
             if not unit:
-                raise ValueError(f"layout table header (line {lineno}): column {cell[:40]!r} "
+                raise ValueError(f"layout table header (line {lineno}): column {quote_cell(cell)} "
                                  f"needs a unit, e.g. {name}_mm; allowed: {allowed}")
             try:
                 factor = parse_quantity(f"1 {unit}", kind)
             except UnitError:
-                raise ValueError(f"layout table header (line {lineno}): column {cell[:40]!r} "
+                raise ValueError(f"layout table header (line {lineno}): column {quote_cell(cell)} "
                                  f"has no {kind} unit {unit[:20]!r}; allowed: {allowed}") from None
         columns[j] = (name, factor)
     names = {n for n, _ in columns.values()}
@@ -145,7 +145,7 @@ def layout_from_csv(text: str, *, default_length=None, center=(0.0, 0.0, 0.0),
             except ValueError:
                 v = float("nan")
             if not np.isfinite(v):
-                raise ValueError(f"layout table line {lineno}, {name} = {cell.strip()[:40]!r}; "
+                raise ValueError(f"layout table line {lineno}, {name} = {quote_cell(cell)}; "
                                  "allowed: a finite real number") from None
             vals[name] = v
         ax = axis if vals["axis_x"] is None else (vals["axis_x"], vals["axis_y"], vals["axis_z"])
@@ -186,7 +186,8 @@ def parse_response_csv(text: str, path="response"):
                          "and at least two rows")
     header = [h.strip().lower() for h in lines[0].split(",")]
     if header != ["freq_hz", "response"]:
-        raise ValueError(f"header = {lines[0]!r} in {str(path)!r}; allowed: 'freq_hz,response'")
+        raise ValueError(f"header = {quote_cell(lines[0])} in {str(path)[:80]!r}; allowed: "
+                         "'freq_hz,response'")
     try:
         rows = np.array([[float(v) for v in ln.split(",")] for ln in lines[1:]])
     except ValueError:

@@ -20,7 +20,7 @@ from scipy.constants import c
 
 from thzarray.air.medium import Medium
 from thzarray.array import _kernels as _array_kernels
-from thzarray.array.arrayfield import array_factor, array_far_field
+from thzarray.array.arrayfield import array_factor, array_far_field, check_method
 from thzarray.array.lobes import (
     angle_between,
     climb,
@@ -125,7 +125,7 @@ def _band_pattern(fils, freq, bw, medium, plasma):
 
 def steering_report(filaments, target, freq, medium: Medium | None = None,
                     plasma: Plasma | None = None, spectral_weight=None, *, sky_theta=None,
-                    sky_phi=None) -> SteeringReport:
+                    sky_phi=None, method: str = "auto") -> SteeringReport:
     """Main lobe, beam width, side lobes, grating lobes and cone level of a steered layout.
 
     Parameters
@@ -139,6 +139,8 @@ def steering_report(filaments, target, freq, medium: Medium | None = None,
     sky_theta, sky_phi : array_like, optional
         Sky grid (rad) for the side-lobe and grating-lobe search; default
         :func:`thzarray.array.maps.sky_grid`. A periodic phi grid (2 pi j / P) is wrapped.
+    method : {"auto", "direct", "nufft"}
+        How the sky map's field is summed (:func:`thzarray.array.maps.sky_map`).
 
     Returns
     -------
@@ -151,6 +153,7 @@ def steering_report(filaments, target, freq, medium: Medium | None = None,
     """
     fils = as_filaments(filaments)
     target = check_target(target)
+    method = check_method(method)
     medium = Medium.vacuum() if medium is None else medium
     freq = check_band(freq)
     bw = band_weights(freq, spectral_weight)
@@ -176,7 +179,7 @@ def steering_report(filaments, target, freq, medium: Medium | None = None,
                    for a in ("theta", "phi"))
     if sky_theta is None or sky_phi is None:
         sky_theta, sky_phi = sky_grid(fils, freq, medium)
-    sm = sky_map(fils, sky_theta, sky_phi, freq, medium, plasma, spectral_weight)
+    sm = sky_map(fils, sky_theta, sky_phi, freq, medium, plasma, spectral_weight, method=method)
     wrap = is_periodic(sm.phi)
     i0, j0 = nearest_index(sm.theta, sm.phi, th_m, ph_m)
     win = (slice(max(i0 - 1, 0), i0 + 2), slice(max(j0 - 1, 0), j0 + 2))

@@ -29,6 +29,7 @@ from thzarray.array.targets import target_fields
 from thzarray.base.band import band_weights, check_band
 from thzarray.base.checks import check_count, check_scalar
 from thzarray.base.geometry import extent
+from thzarray.base.memory import DEFAULT_MEMORY_BUDGET
 from thzarray.field.energy import spectral_energy
 from thzarray.source.filament import as_filaments
 from thzarray.source.plasma import Plasma
@@ -41,6 +42,9 @@ __all__ = [
     "directivity",
 ]
 
+
+# Bytes of temporaries per direction of a sphere sum (angles, the array factor, its work).
+_BYTES_PER_DIRECTION = 512
 
 MAX_TRIALS = 1_000_000
 """Most Monte Carlo trials one call may draw."""
@@ -151,7 +155,8 @@ def array_gain(filaments, target, freq, *, medium: Medium | None = None,
 
 
 def directivity(filaments, theta, phi, freq, medium: Medium | None = None,
-                plasma: Plasma | None = None, spectral_weight=None) -> float:
+                plasma: Plasma | None = None, spectral_weight=None, *,
+                memory_budget: float = DEFAULT_MEMORY_BUDGET) -> float:
     """Band directivity of a layout toward (theta, phi), by integration over the sphere.
 
     Parameters
@@ -162,6 +167,9 @@ def directivity(filaments, theta, phi, freq, medium: Medium | None = None,
     freq : array_like, shape (F,)
         Band frequencies (Hz); one frequency gives the spectral directivity.
     medium, plasma, spectral_weight : optional
+    memory_budget : float
+        Bytes this call may use (default 2 GiB); the sphere is integrated in blocks that fit
+        (:func:`~thzarray.field.energy.spectral_energy`).
 
     Returns
     -------
@@ -182,11 +190,12 @@ def directivity(filaments, theta, phi, freq, medium: Medium | None = None,
     freq = check_band(freq)
     bw = band_weights(freq, spectral_weight)
     toward = array_far_field(fils, freq, theta, phi, medium, plasma).energy_density
-    total = spectral_energy(fils, freq, medium, plasma)
+    total = spectral_energy(fils, freq, medium, plasma, memory_budget=memory_budget)
     return float(4 * np.pi * np.sum(bw * toward) / np.sum(bw * total))
 
 
-def array_factor_directivity(filaments, freq, theta, phi, medium: Medium | None = None) -> float:
+def array_factor_directivity(filaments, freq, theta, phi, medium: Medium | None = None, *,
+                             memory_budget: float = DEFAULT_MEMORY_BUDGET) -> float:
     """Directivity of the array factor alone (isotropic elements) at one frequency.
 
     Parameters
@@ -198,6 +207,8 @@ def array_factor_directivity(filaments, freq, theta, phi, medium: Medium | None 
     theta, phi : float
         Direction (rad).
     medium : Medium, optional
+    memory_budget : float
+        Bytes this call may use (default 2 GiB); the sphere is summed in blocks that fit.
 
     Returns
     -------
@@ -220,13 +231,23 @@ def array_factor_directivity(filaments, freq, theta, phi, medium: Medium | None 
     size = extent([x.start for x in fils])
     panels = int(np.ceil(3 * k * size / np.pi)) + 4
     x16, w16 = roots_legendre(16)
-    edges = np.linspace(-1.0, 1.0, panels + 1)
-    half, mid = 0.5 * np.diff(edges), 0.5 * (edges[1:] + edges[:-1])
-    mu = (mid[:, None] + half[:, None] * x16).ravel()
-    wmu = (half[:, None] * w16).ravel()
     nphi = 2 * int(np.ceil(k * size)) + 16
-    ph = 2 * np.pi * np.arange(nphi) / nphi
-    af = array_factor(fils, f, np.arccos(mu)[:, None], ph[None, :], medium)
-    total = np.sum(np.abs(af) ** 2 * wmu[:, None]) * 2 * np.pi / nphi
+    ph_all = 2 * np.pi * np.arange(nphi) / nphi
+    # Blocks of directions: af (16 bytes) and its work space, well inside the budget.
+    per_block = max(16, int(check_scalar("memory_budget", memory_budget, low=0.0,
+                                         low_open=True) // (4 * _BYTES_PER_DIRECTION)))
+    phi_step = min(nphi, max(1, per_block // 16))
+    panel_step = max(1, per_block // (16 * phi_step))
+    total = 0.0
+    for j0 in range(0, panels, panel_step):
+        j = np.arange(j0, min(j0 + panel_step, panels))
+        half = np.full(j.size, 1.0 / panels)
+        mid = -1.0 + (2 * j + 1) / panels
+        mu = (mid[:, None] + half[:, None] * x16).ravel()
+        wmu = (half[:, None] * w16).ravel()
+        for p0 in range(0, nphi, phi_step):
+            af = array_factor(fils, f, np.arccos(mu)[:, None], ph_all[None, p0:p0 + phi_step],
+                              medium)
+            total += float(np.sum(np.abs(af) ** 2 * wmu[:, None])) * 2 * np.pi / nphi
     peak = np.abs(array_factor(fils, f, theta, phi, medium)) ** 2
     return float(4 * np.pi * peak / total)

@@ -18,6 +18,7 @@ from thzarray.base.checks import (
     check_count,
     check_scalar,
     check_vector3,
+    unit_vector,
 )
 from thzarray.base.geometry import axis_frame
 from thzarray.source.filament import Filament, as_filaments
@@ -63,7 +64,7 @@ def from_positions(positions, length, *, axis=(0.0, 0.0, 1.0), delay=0.0, amplit
     length : float or array_like, shape (N,)
         Column lengths (m).
     axis : 3-sequence of float
-        Common beam axis (normalised).
+        Common beam axis (normalised stably: scaled first; zero or subnormal refused).
     delay : float or array_like, shape (N,)
         Delays (s) at which the pulses pass the starts.
     amplitude : float or array_like, shape (N,)
@@ -83,7 +84,7 @@ def from_positions(positions, length, *, axis=(0.0, 0.0, 1.0), delay=0.0, amplit
     lengths = _per_column("length", length, count, low=0.0, low_open=True, unit="m")
     delays = _per_column("delay", delay, count, unit="s")
     amplitudes = _per_column("amplitude", amplitude, count)
-    ax = tuple(check_vector3("axis", axis, nonzero=True).tolist())
+    ax = tuple(unit_vector("axis", axis).tolist())
     return tuple(Filament(float(lengths[i]), tuple(pos[i].tolist()), ax, float(delays[i]),
                           float(amplitudes[i]), profile) for i in range(count))
 
@@ -108,8 +109,7 @@ def check_separation(positions):
 
 def _transverse(axis):
     """Two unit vectors spanning the plane transverse to ``axis`` (x and y for +z)."""
-    a = check_vector3("axis", axis, nonzero=True)
-    a = a / np.linalg.norm(a)
+    a = unit_vector("axis", axis)
     if np.allclose(a, (0.0, 0.0, 1.0), rtol=0.0, atol=1e-15):
         return np.array([1.0, 0.0, 0.0]), np.array([0.0, 1.0, 0.0])
     ex, ey, _ = axis_frame(a)

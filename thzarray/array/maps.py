@@ -20,9 +20,10 @@ import numpy as np
 from scipy.constants import c
 
 from thzarray.air.medium import Medium
-from thzarray.array.arrayfield import array_far_field
+from thzarray.array.arrayfield import array_far_field, check_method
 from thzarray.base.band import band_weights, check_band
 from thzarray.base.checks import as_float_array, check_scalar
+from thzarray.field.nufft import DEFAULT_RTOL
 from thzarray.source.filament import as_filaments, layout_extent
 from thzarray.source.plasma import Plasma
 
@@ -98,7 +99,8 @@ def _axis(name, value, low=None, high=None):
 
 
 def sky_map(filaments, theta, phi, freq, medium: Medium | None = None,
-            plasma: Plasma | None = None, spectral_weight=None) -> SkyMap:
+            plasma: Plasma | None = None, spectral_weight=None, *, method: str = "auto",
+            rtol: float = DEFAULT_RTOL) -> SkyMap:
     """Band energy per steradian of a layout on a (theta, phi) grid.
 
     Parameters
@@ -113,12 +115,18 @@ def sky_map(filaments, theta, phi, freq, medium: Medium | None = None,
     medium, plasma : optional
     spectral_weight : array_like, shape (F,), optional
         Spectral weight (see :func:`thzarray.base.band.band_weights`).
+    method : {"auto", "direct", "nufft"}
+        How the field is summed (:func:`thzarray.array.arrayfield.array_far_field`).
+    rtol : float
+        Tolerance of the non-uniform FFT path (relative to the largest field the columns can
+        give).
 
     Returns
     -------
     SkyMap
     """
     fils = as_filaments(filaments)
+    method = check_method(method)
     theta = _axis("theta", theta, 0.0, np.pi)
     phi = _axis("phi", phi)
     freq = check_band(freq)
@@ -128,7 +136,8 @@ def sky_map(filaments, theta, phi, freq, medium: Medium | None = None,
     rows = max(1, _CHUNK // (phi.size * freq.size))
     for i0 in range(0, theta.size, rows):
         th = theta[i0:i0 + rows]
-        ff = array_far_field(fils, freq[:, None, None], th[:, None], phi[None, :], medium, plasma)
+        ff = array_far_field(fils, freq[:, None, None], th[:, None], phi[None, :], medium, plasma,
+                             method=method, rtol=rtol)
         energy[i0:i0 + rows] = np.tensordot(bw, ff.energy_density, axes=(0, 0))
     return SkyMap(theta, phi, freq, energy)
 

@@ -43,6 +43,8 @@ from thzarray.source.filament import as_filaments, layout_extent
 from thzarray.source.plasma import Plasma
 
 __all__ = [
+    "MAX_APERTURE_DISTANCE",
+    "MIN_APERTURE_RADIUS",
     "Aperture",
     "Direction",
     "TargetFields",
@@ -90,6 +92,13 @@ class Direction:
         return np.array([self.theta]), np.array([self.phi]), np.ones(1)
 
 
+# Copies of the target fields alive at the peak (the fields, their scaled copy, and the
+# work arrays of an energy evaluation).
+_TARGET_COPIES = 3
+MIN_APERTURE_RADIUS = 1e-9
+MAX_APERTURE_DISTANCE = 1e9
+
+
 @dataclass(frozen=True)
 class Aperture:
     """A circular aperture facing the array: the target a receiver presents.
@@ -99,9 +108,11 @@ class Aperture:
     theta, phi : float
         Direction of the aperture's centre seen from the origin (rad); theta in [0, pi].
     radius : float
-        Aperture radius (m), > 0.
+        Aperture radius (m), from ``MIN_APERTURE_RADIUS`` (1 nm, below which the weights
+        underflow) up.
     distance : float
-        Distance from the origin to the aperture's centre (m), > radius.
+        Distance from the origin to the aperture's centre (m), > radius and at most
+        ``MAX_APERTURE_DISTANCE`` (1e9 m).
     """
 
     theta: float
@@ -113,9 +124,10 @@ class Aperture:
         set_ = object.__setattr__
         set_(self, "theta", _check_theta("theta", self.theta))
         set_(self, "phi", check_scalar("phi", self.phi, unit="rad"))
-        set_(self, "radius", check_scalar("radius", self.radius, low=0.0, low_open=True, unit="m"))
+        set_(self, "radius", check_scalar("radius", self.radius, low=MIN_APERTURE_RADIUS,
+                                          high=MAX_APERTURE_DISTANCE, unit="m"))
         set_(self, "distance", check_scalar("distance", self.distance, low=self.radius,
-                                            low_open=True, unit="m"))
+                                            low_open=True, high=MAX_APERTURE_DISTANCE, unit="m"))
 
     unit = "J"
 
@@ -126,8 +138,12 @@ class Aperture:
 
     @property
     def solid_angle(self) -> float:
-        """Solid angle the aperture subtends (sr): 2 pi (1 - R / sqrt(R^2 + a^2))."""
-        return 2 * np.pi * (1 - self.distance / np.hypot(self.distance, self.radius))
+        """Solid angle the aperture subtends (sr): 2 pi (1 - R / sqrt(R^2 + a^2)).
+
+        Evaluated as 4 pi sin^2(alpha / 2), alpha = atan2(a, R), which has no cancellation
+        for a small aperture far away.
+        """
+        return 4 * np.pi * np.sin(0.5 * np.arctan2(self.radius, self.distance)) ** 2
 
     def _grid(self, filaments, freq_max, medium):
         """(radial panels, azimuths) of the quadrature (see :meth:`nodes`)."""
@@ -268,7 +284,8 @@ def target_field_bytes(filaments, target, freq, medium) -> int:
 
 
 def target_fields(filaments, target, freq, medium: Medium | None = None,
-                  plasma: Plasma | None = None, spectral_weight=None) -> TargetFields:
+                  plasma: Plasma | None = None, spectral_weight=None, *,
+                  memory_budget: float = DEFAULT_MEMORY_BUDGET) -> TargetFields:
     """Column fields at a target's quadrature nodes, weighted for the band sum.
 
     Parameters
@@ -280,6 +297,11 @@ def target_fields(filaments, target, freq, medium: Medium | None = None,
     medium, plasma : optional
     spectral_weight : array_like, shape (F,), optional
         Spectral weight (see :func:`thzarray.base.band.band_weights`).
+    memory_budget : float
+        Bytes this call may use (default 2 GiB). The fields (N, F, J, 2) are the result and
+        every later energy needs all of them; with the working copies that the scaling and
+        the energies make (``_TARGET_COPIES`` of them) they must fit, else ValueError up
+        front with the bytes needed.
 
     Returns
     -------
@@ -295,6 +317,10 @@ def target_fields(filaments, target, freq, medium: Medium | None = None,
     check_result_fits("target_fields", target_field_bytes(fils, target, freq, medium),
                       DEFAULT_MEMORY_BUDGET)
     th, ph, nw = target.nodes(fils, freq[-1], medium)
+    field_bytes = 16 * 2 * len(fils) * freq.size * th.size
+    check_result_fits(f"target fields ({len(fils)} columns x {freq.size} frequencies x "
+                      f"{th.size} target nodes)", _TARGET_COPIES * field_bytes, memory_budget,
+                      "fewer columns, fewer band frequencies or a smaller aperture")
     g = filament_fields(fils, freq[:, None], th[None, :], ph[None, :], medium, plasma)
     scale = np.sqrt(2 * medium.n_thz * epsilon_0 * c * bw[:, None] * nw[None, :])
     return TargetFields(g * scale[None, :, :, None], 2 * np.pi * freq, target.unit)

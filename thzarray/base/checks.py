@@ -39,6 +39,15 @@ def _describe(value) -> str:
     return f"array of shape {arr.shape} (e.g. {shorten(repr(bad[0].item()), 30)})"
 
 
+def _first_bad(arr, bad) -> str:
+    """The first offending element and where it sits, e.g. 'nan at index 3 of shape (20,)'."""
+    if arr.ndim == 0:
+        return repr(arr.item())
+    index = tuple(int(i) for i in np.argwhere(bad)[0])
+    where = index[0] if len(index) == 1 else index
+    return f"{arr[index].item()!r} (at index {where} of an array of shape {arr.shape})"
+
+
 def _fail(name: str, value, allowed: str) -> ValueError:
     return ValueError(f"{name} = {shorten(str(value))} is not allowed; allowed: {allowed}")
 
@@ -67,9 +76,7 @@ def as_float_array(
         raise _fail(name, "an empty array", allowed)
     finite = np.isfinite(arr)
     if not finite.all():
-        first = arr[~finite].ravel()[0].item()
-        raise _fail(name, repr(first) if arr.ndim == 0 else f"{first!r} (in {_describe(arr)})",
-                    allowed)
+        raise _fail(name, _first_bad(arr, ~finite), allowed)
     for bound, is_open, is_low in ((low, low_open, True), (high, high_open, False)):
         if bound is None:
             continue
@@ -78,9 +85,7 @@ def as_float_array(
         else:
             bad = arr >= bound if is_open else arr > bound
         if bad.any():
-            first = arr[bad].ravel()[0].item()
-            where = "" if arr.ndim == 0 else f" (in {_describe(arr)})"
-            raise _fail(name, f"{first!r}{where}", allowed)
+            raise _fail(name, _first_bad(arr, bad), allowed)
     return arr
 
 

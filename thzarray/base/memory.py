@@ -15,14 +15,19 @@ def _gib(n):
     return f"{n / 2**30:.3g} GiB"
 
 
-def check_result_fits(what: str, result_bytes: int, memory_budget: float) -> None:
-    """Raise ValueError when the result alone exceeds the budget (chunking cannot help)."""
+def check_result_fits(what: str, result_bytes: int, memory_budget: float,
+                      smaller: str = "a smaller grid (fewer frequencies, angles or points)"
+                      ) -> None:
+    """Raise ValueError when the result alone exceeds the budget (chunking cannot help).
+
+    ``smaller`` says what the caller can shrink (for the message).
+    """
     if not memory_budget > 0:
         raise ValueError(f"memory_budget = {memory_budget!r} is not allowed; allowed: > 0 bytes")
     if result_bytes > memory_budget:
         raise ValueError(f"{what}: the result needs {_gib(result_bytes)}, more than "
-                         f"memory_budget = {_gib(memory_budget)}; allowed: a smaller grid "
-                         "(fewer frequencies, angles or points) or a larger memory_budget")
+                         f"memory_budget = {_gib(memory_budget)}; allowed: {smaller} or a larger "
+                         "memory_budget")
 
 
 def chunk_points(memory_budget: float, result_bytes: int, bytes_per_point: int,

@@ -75,9 +75,15 @@ class Calibration:
         return 0.5 * self.relative_uncertainty
 
 
+# Bounds on a calibration's inputs (any unit): ratios, their squares and the relative
+# uncertainties in quadrature stay finite.
+_MAGNITUDE = (1e-50, 1e50)
+_MAX_RELATIVE = 1e6
+
+
 def _ratio(measured, model, name):
-    m = check_scalar(f"measured {name}", measured, low=0.0, low_open=True)
-    p = check_scalar(f"model {name}", model, low=0.0, low_open=True)
+    m = check_scalar(f"measured {name}", measured, low=_MAGNITUDE[0], high=_MAGNITUDE[1])
+    p = check_scalar(f"model {name}", model, low=_MAGNITUDE[0], high=_MAGNITUDE[1])
     return m, p
 
 
@@ -105,8 +111,8 @@ def calibrate_energy(measured, model, uncertainty=0.0, model_uncertainty=0.0,
         k = measured / model, u(k)/k = sqrt((u/measured)^2 + model_uncertainty^2).
     """
     m, p = _ratio(measured, model, "energy")
-    u = check_scalar("uncertainty", uncertainty, low=0.0)
-    um = check_scalar("model_uncertainty", model_uncertainty, low=0.0)
+    u = check_scalar("uncertainty", uncertainty, low=0.0, high=_MAGNITUDE[1])
+    um = check_scalar("model_uncertainty", model_uncertainty, low=0.0, high=_MAX_RELATIVE)
     return Calibration(m / p, _quadrature(u / m, um), source)
 
 
@@ -130,8 +136,8 @@ def calibrate_field(measured, model, uncertainty=0.0, model_uncertainty=0.0,
         k = (measured / model)^2, u(k)/k = 2 sqrt((u/measured)^2 + model_uncertainty^2).
     """
     m, p = _ratio(measured, model, "field")
-    u = check_scalar("uncertainty", uncertainty, low=0.0)
-    um = check_scalar("model_uncertainty", model_uncertainty, low=0.0)
+    u = check_scalar("uncertainty", uncertainty, low=0.0, high=_MAGNITUDE[1])
+    um = check_scalar("model_uncertainty", model_uncertainty, low=0.0, high=_MAX_RELATIVE)
     return Calibration((m / p) ** 2, 2 * _quadrature(u / m, um), source)
 
 

@@ -28,17 +28,25 @@ from thzarray.base.checks import as_float_array, check_scalar
 __all__ = ["check_noise", "eo_signal_to_noise", "signal_to_noise"]
 
 
+# Physical bounds that keep every signal-to-noise ratio finite: NEP from 1e-30 to 1 W/Hz^0.5,
+# averaging up to 1e6 s, repetition rates up to 1 GHz, pulse energies up to 1e3 J.
+NEP_RANGE = (1e-30, 1.0)
+MAX_INTEGRATION_TIME = 1e6
+MAX_REPETITION_RATE = 1e9
+MAX_PULSE_ENERGY = 1e3
+
+
 def check_noise(nep, integration_time, repetition_rate):
     """Validate a detector's noise settings: all three given, or none (returns them).
 
     Parameters
     ----------
     nep : float or None
-        Noise-equivalent power (W/sqrt(Hz)), > 0.
+        Noise-equivalent power (W/sqrt(Hz)), NEP_RANGE (1e-30 to 1).
     integration_time : float or None
-        Averaging time (s), > 0.
+        Averaging time (s), > 0 and <= MAX_INTEGRATION_TIME (1e6).
     repetition_rate : float or None
-        Pulse repetition rate of the source the detector records (Hz), > 0.
+        Pulse repetition rate of the source the detector records (Hz), > 0 and <= 1e9.
     """
     given = [v is not None for v in (nep, integration_time, repetition_rate)]
     if not any(given):
@@ -46,10 +54,11 @@ def check_noise(nep, integration_time, repetition_rate):
     if not all(given):
         raise ValueError(f"nep = {nep!r}, integration_time = {integration_time!r}, "
                          f"repetition_rate = {repetition_rate!r}; allowed: all three or none")
-    return (check_scalar("nep", nep, low=0.0, low_open=True, unit="W/Hz^0.5"),
+    return (check_scalar("nep", nep, low=NEP_RANGE[0], high=NEP_RANGE[1], unit="W/Hz^0.5"),
             check_scalar("integration_time", integration_time, low=0.0, low_open=True,
-                         unit="s"),
-            check_scalar("repetition_rate", repetition_rate, low=0.0, low_open=True, unit="Hz"))
+                         high=MAX_INTEGRATION_TIME, unit="s"),
+            check_scalar("repetition_rate", repetition_rate, low=0.0, low_open=True,
+                         high=MAX_REPETITION_RATE, unit="Hz"))
 
 
 def signal_to_noise(energy, nep, integration_time, repetition_rate):
@@ -58,7 +67,7 @@ def signal_to_noise(energy, nep, integration_time, repetition_rate):
     Parameters
     ----------
     energy : array_like
-        Energy per pulse into the detector (J), >= 0.
+        Energy per pulse into the detector (J), 0 to MAX_PULSE_ENERGY (1e3).
     nep : float
         Noise-equivalent power (W/sqrt(Hz)).
     integration_time : float
@@ -75,7 +84,7 @@ def signal_to_noise(energy, nep, integration_time, repetition_rate):
     -----
     .. math:: \\mathrm{SNR} = W f_{rep}\\sqrt{2t_{int}}/\\mathrm{NEP}
     """
-    w = as_float_array("energy", energy, low=0.0, unit="J")
+    w = as_float_array("energy", energy, low=0.0, high=MAX_PULSE_ENERGY, unit="J")
     nep, t_int, f_rep = check_noise(nep, integration_time, repetition_rate)
     if nep is None:
         raise ValueError("nep = None; allowed: a noise-equivalent power > 0 W/Hz^0.5")
@@ -111,10 +120,13 @@ def eo_signal_to_noise(retardation, probe_energy, probe_wavelength, integration_
     .. math:: \\mathrm{SNR} = |\\Gamma|\\sqrt{\\eta E_{probe}\\lambda f_{rep}t_{int}/(hc)}
     """
     g = as_float_array("retardation", retardation, unit="rad")
-    e = check_scalar("probe_energy", probe_energy, low=0.0, low_open=True, unit="J")
-    lam = check_scalar("probe_wavelength", probe_wavelength, low=0.0, low_open=True, unit="m")
-    t = check_scalar("integration_time", integration_time, low=0.0, low_open=True, unit="s")
-    f = check_scalar("repetition_rate", repetition_rate, low=0.0, low_open=True, unit="Hz")
+    e = check_scalar("probe_energy", probe_energy, low=0.0, low_open=True,
+                     high=MAX_PULSE_ENERGY, unit="J")
+    lam = check_scalar("probe_wavelength", probe_wavelength, low=1e-7, high=2e-5, unit="m")
+    t = check_scalar("integration_time", integration_time, low=0.0, low_open=True,
+                     high=MAX_INTEGRATION_TIME, unit="s")
+    f = check_scalar("repetition_rate", repetition_rate, low=0.0, low_open=True,
+                     high=MAX_REPETITION_RATE, unit="Hz")
     eta = check_scalar("quantum_efficiency", quantum_efficiency, low=0.0, low_open=True,
                        high=1.0)
     electrons = eta * e * lam / (h * c)

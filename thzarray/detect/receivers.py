@@ -64,6 +64,12 @@ __all__ = [
 ]
 
 
+# Largest dimensionless response and absorbing area accepted: generous bounds against
+# typing errors that keep every detected energy finite.
+MAX_RESPONSE = 1e6
+MAX_AREA = 1e6
+
+
 def _unit(name, value):
     return tuple(unit_vector(name, value).tolist())
 
@@ -118,7 +124,7 @@ class NarrowbandReceiver:
                              "exactly one of them given")
         if self.area is not None:
             set_(self, "area", check_scalar("area", self.area, low=0.0, low_open=True,
-                                            unit="m^2"))
+                                            high=MAX_AREA, unit="m^2"))
         else:
             set_(self, "beam_waist", check_scalar("beam_waist", self.beam_waist, low=0.0,
                                                   low_open=True, unit="m"))
@@ -214,9 +220,10 @@ class BroadbandDetector:
     freq : array_like, 1-D increasing
         Frequencies (Hz) of the response samples, > 0.
     response : array_like
-        Response at those frequencies (dimensionless, >= 0); linear in between, zero outside.
+        Response at those frequencies (dimensionless, 0 to MAX_RESPONSE = 1e6); linear in
+        between, zero outside.
     area : float
-        Absorbing area (m^2), > 0.
+        Absorbing area (m^2), > 0 and at most MAX_AREA (1e6).
     normal : 3-sequence of float
         Normal of the absorber (normalised here).
     nep, integration_time, repetition_rate : float, optional
@@ -238,12 +245,13 @@ class BroadbandDetector:
         if f.ndim != 1 or f.size < 2 or np.any(np.diff(f) <= 0):
             raise ValueError(f"freq = array of shape {f.shape}; allowed: a 1-D strictly "
                              "increasing array of at least 2 frequencies")
-        r = as_float_array("response", self.response, low=0.0)
+        r = as_float_array("response", self.response, low=0.0, high=MAX_RESPONSE)
         if r.shape != f.shape:
             raise ValueError(f"response has shape {r.shape}; allowed: the shape of freq {f.shape}")
         set_(self, "freq", f)
         set_(self, "response", r)
-        set_(self, "area", check_scalar("area", self.area, low=0.0, low_open=True, unit="m^2"))
+        set_(self, "area", check_scalar("area", self.area, low=0.0, low_open=True, high=MAX_AREA,
+                                        unit="m^2"))
         set_(self, "normal", _unit("normal", self.normal))
         _set_noise(self)
 

@@ -187,8 +187,11 @@ def _uniform_grid(freq, theta, phi, length, start, axis, current, delay, amplitu
             inv_a = 1.0 / a_half if a_half != 0.0 else 0.0
             a_all = a_half + a_rest
             block = _RESEED if equal_steps else 1
-            s1 = complex(np.cos(a_half * df), np.sin(a_half * df))
-            s3 = complex(np.cos(a_all * df), np.sin(a_all * df))
+            s1 = 1.0 + 0.0j
+            s3 = 1.0 + 0.0j
+            if equal_steps:  # the steps are used only by the recurrence
+                s1 = complex(np.cos(a_half * df), np.sin(a_half * df))
+                s3 = complex(np.cos(a_all * df), np.sin(a_all * df))
             for k0 in range(0, nf, block):
                 h0 = a_half * freq[k0]
                 p0 = h0 + a_rest * freq[k0]

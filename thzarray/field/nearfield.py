@@ -57,6 +57,7 @@ point lies well outside the plasma; a real filament core is some 100 um across).
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -72,6 +73,7 @@ from thzarray.source.filament import as_filaments
 from thzarray.source.plasma import Plasma
 
 __all__ = [
+    "MAX_POINT_COORDINATE",
     "MIN_DISTANCE_WAVELENGTHS",
     "NearField",
     "field_at",
@@ -81,6 +83,8 @@ __all__ = [
 ]
 
 MIN_DISTANCE_WAVELENGTHS = 0.01
+# Largest coordinate of a field point (m): keeps r^2 and every phase k r finite.
+MAX_POINT_COORDINATE = 1e9
 
 # Largest number of (frequency, point) pairs handled in one pass; bounds temporary memory.
 _CHUNK_PAIRS = 1 << 18
@@ -170,9 +174,10 @@ def _distance_to_columns(points, fils):
     return best.reshape(points.shape[:-1])
 
 
-def _check_inputs(fils, freq, points, medium):
+def _check_inputs(fils, freq, points, medium, memory_budget):
     freq = as_float_array("freq", freq, low=0.0, low_open=True, unit="Hz")
-    points = as_float_array("points", points, unit="m")
+    points = as_float_array("points", points, low=-MAX_POINT_COORDINATE,
+                            high=MAX_POINT_COORDINATE, unit="m")
     if points.ndim == 0 or points.shape[-1] != 3:
         raise ValueError(f"points has shape {points.shape}; allowed: Cartesian points on a last "
                          "axis of size 3")
@@ -182,6 +187,8 @@ def _check_inputs(fils, freq, points, medium):
         raise ValueError(f"freq and points have shapes {freq.shape} and {points.shape}; allowed: "
                          "freq broadcastable with points[..., 0] (e.g. freq[:, None, None] with "
                          "points of shape (ny, nx, 3))") from None
+    # Before anything of the broadcast shape is allocated (the distance test below is).
+    check_result_fits("fields_at", 96 * math.prod(shape), memory_budget)
     dist = _distance_to_columns(points, fils)
     limit = MIN_DISTANCE_WAVELENGTHS * c / (medium.n_thz * freq)
     too_close = np.broadcast_to(dist, shape) < np.broadcast_to(limit, shape)
@@ -206,7 +213,7 @@ def fields_at(filaments, freq, points, medium: Medium | None = None,
         Frequency (Hz), > 0; broadcast with ``points[..., 0]``.
     points : array_like, shape (..., 3)
         Field points (m), each at least ``MIN_DISTANCE_WAVELENGTHS`` wavelengths from every
-        column.
+        column, coordinates within +-``MAX_POINT_COORDINATE`` (1e9 m).
     medium : Medium, optional
         Defaults to vacuum.
     plasma : Plasma or ColumnPlasma, optional
@@ -230,11 +237,10 @@ def fields_at(filaments, freq, points, medium: Medium | None = None,
     """
     fils = as_filaments(filaments)
     medium = Medium.vacuum() if medium is None else medium
-    freq, points, shape = _check_inputs(fils, freq, points, medium)
+    freq, points, shape = _check_inputs(fils, freq, points, medium, memory_budget)
     groups, varying, column_plasma = spectral_groups(fils, medium, plasma)
-    size = int(np.prod(shape))
+    size = math.prod(shape)
     result_bytes = 96 * size  # E and H, complex, 3 components
-    check_result_fits("fields_at", result_bytes, memory_budget)
     chunk = min(_CHUNK_PAIRS, chunk_points(memory_budget, result_bytes, _TEMP_BYTES_PER_POINT))
     bf = np.broadcast_to(freq, shape)
     bxyz = [np.broadcast_to(points[..., j], shape) for j in range(3)]

@@ -269,9 +269,9 @@ def stretched_duration(duration, gdd):
     Parameters
     ----------
     duration : array_like
-        Intensity FWHM of the transform-limited input pulse (s), > 0.
+        Intensity FWHM of the transform-limited input pulse (s), 1e-16 to 1e-9.
     gdd : array_like
-        Group delay dispersion (s^2), any sign; broadcast with ``duration``.
+        Group delay dispersion (s^2), any sign, |gdd| <= 1e-20; broadcast with ``duration``.
 
     Returns
     -------
@@ -285,8 +285,8 @@ def stretched_duration(duration, gdd):
     (standard result for a Gaussian pulse; Diels and Rudolph, chapter 1). The pulse keeps its
     energy and spectrum and acquires a linear chirp.
     """
-    tau = as_float_array("duration", duration, low=0.0, low_open=True, unit="s")
-    phi2 = as_float_array("gdd", gdd, unit="s^2")
+    tau = as_float_array("duration", duration, low=1e-16, high=1e-9, unit="s")
+    phi2 = as_float_array("gdd", gdd, low=-1e-20, high=1e-20, unit="s^2")
     return tau * np.sqrt(1 + (4 * np.log(2) * phi2 / tau**2) ** 2)
 
 
@@ -324,7 +324,7 @@ def plate_thickness(delay, glass, wavelength=800e-9, *, medium: Medium | None = 
     Parameters
     ----------
     delay : array_like
-        Wanted delays (s), >= 0.
+        Wanted delays (s), 0 to 1e-3.
     glass : Glass or str
         The plate's material (:data:`GLASSES`).
     wavelength : float
@@ -341,6 +341,6 @@ def plate_thickness(delay, glass, wavelength=800e-9, *, medium: Medium | None = 
     -----
     .. math:: d = \\frac{c\\,t}{n_{g,glass} - n_{g,air}}
     """
-    t = as_float_array("delay", delay, low=0.0, unit="s")
+    t = as_float_array("delay", delay, low=0.0, high=1e-3, unit="s")
     ng = float(group_index(glass, check_scalar("wavelength", wavelength, unit="m")))
     return c * t / (ng - air_group_index(wavelength, medium))

@@ -290,19 +290,34 @@ def parameters(defaults, bounds, scales, fixed, initial, allowed):
                     np.array([bounds[n][1] for n in names])), fixed, values
 
 
+# Bounds on measured numbers (any unit): residuals / sigma then square and sum without
+# overflow for any number of points a file may hold.
+MAX_SIGNAL = 1e50
+SIGMA_RANGE = (1e-50, 1e50)
+
+
+def check_signal(signal):
+    """The measured values as a finite float array with |signal| <= MAX_SIGNAL."""
+    return as_float_array("signal", signal, low=-MAX_SIGNAL, high=MAX_SIGNAL)
+
+
+# Below this share of the largest |signal| no measurement resolves anything, and the
+# weighted residuals (residual / sigma) would overflow.
 _SIGMA_FLOOR = 1e-12
 
 
 def check_data(x_name, x, signal, sigma, n_free):
-    signal = as_float_array("signal", signal)
+    signal = check_signal(signal)
     if signal.ndim != 1 or signal.shape != x.shape:
         raise ValueError(f"signal has shape {signal.shape}; allowed: a 1-D array of the shape "
                          f"of {x_name} {x.shape}")
     if sigma is not None:
-        sigma = np.broadcast_to(as_float_array("sigma", sigma, low=0.0, low_open=True),
-                                signal.shape).astype(float)
-        # Below this share of the signal no measurement resolves anything, and the weighted
-        # residuals (residual / sigma) would overflow.
+        sigma = as_float_array("sigma", sigma, low=SIGMA_RANGE[0], high=SIGMA_RANGE[1])
+        try:
+            sigma = np.broadcast_to(sigma, signal.shape).astype(float)
+        except ValueError:
+            raise ValueError(f"sigma has shape {sigma.shape}; allowed: one number or the shape "
+                             f"of signal {signal.shape}") from None
         floor = _SIGMA_FLOOR * float(np.max(np.abs(signal), initial=0.0))
         if sigma.size and float(sigma.min()) < floor:
             raise ValueError(f"sigma = {float(sigma.min()):.3g} is not allowed; allowed: >= "

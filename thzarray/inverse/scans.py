@@ -89,7 +89,7 @@ from thzarray.base.checks import as_float_array, check_scalar, unit_vector
 from thzarray.field.cone import cone_angle, length_for_cone
 from thzarray.field.farfield import far_field
 from thzarray.field.nearfield import field_at
-from thzarray.inverse.leastsq import FitResult, check_data, parameters, solve
+from thzarray.inverse.leastsq import FitResult, check_data, check_signal, parameters, solve
 from thzarray.source.filament import Filament
 from thzarray.source.plasma import Plasma, plasma_group_index_shift
 
@@ -245,7 +245,7 @@ def fit_scan(angle, signal, freq, distance=None, sigma=None, polarization=None, 
     freq : float or array_like, shape (B,)
         Detection frequency (Hz), or frequencies sampling the detection band.
     distance : float, optional
-        Distance from the origin to the detector (m) for the finite-distance model; the far
+        Distance from the origin to the detector (m, 1e-6 to 1e6) for the finite-distance model; the far
         field by default.
     sigma : float or array_like, shape (N,), optional
         1-sigma uncertainty of each signal value (> 0). Without it the errors are scaled by
@@ -293,9 +293,9 @@ def fit_scan(angle, signal, freq, distance=None, sigma=None, polarization=None, 
     freq, wts, assumed, notes = _band(freq, source_spectrum, detector_response, medium)
     predicted = _predicted_mismatch(medium, electron_density)
     if distance is not None:
-        distance = check_scalar("distance", distance, low=0.0, low_open=True, unit="m")
+        distance = check_scalar("distance", distance, low=1e-6, high=1e6, unit="m")
     pol = None if polarization is None else unit_vector("polarization", polarization)
-    signal_arr = as_float_array("signal", signal)
+    signal_arr = check_signal(signal)
     f_mean = float(np.sum(wts * freq))
     length0 = (_guess_length(theta, signal_arr, f_mean, medium)
                if signal_arr.shape == theta.shape else 1.0)
@@ -392,7 +392,7 @@ def fit_delay_scan(delay, angle, signal, freq, length, *, source_spectrum=None,
                          "arrays of equal shape")
     freq, wts, assumed, notes = _band(freq, source_spectrum, detector_response, medium)
     length = check_scalar("length", length, low=1e-6, high=1e3, unit="m")
-    signal_arr = as_float_array("signal", signal)
+    signal_arr = check_signal(signal)
     f_mean = float(np.sum(wts * freq))
     known = {**(initial or {}), **(fixed or {})}.get("spacing")
     known = None if known is None else check_scalar("spacing", known, unit="m")

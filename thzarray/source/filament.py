@@ -46,6 +46,9 @@ from thzarray.base.geometry import extent
 
 __all__ = [
     "Filament",
+    "MAX_DELAY",
+    "MAX_POSITION",
+    "MAX_WEIGHT",
     "PERPENDICULAR_TOLERANCE",
     "PROFILE_SAMPLES",
     "ProfilePieces",
@@ -58,11 +61,11 @@ PROFILE_SAMPLES = 1025
 # Longest column accepted (m) and shortest; both generous bounds against typing errors.
 _MAX_LENGTH = 1e3
 _MIN_LENGTH = 1e-9
-# Largest |coordinate| of a start (m), |delay| (s) and |amplitude|: far beyond any bench,
-# and small enough that phases k x, w t and energies |amplitude|^2 stay finite at 100 THz.
-_MAX_POSITION = 1e6
-_MAX_DELAY = 1.0
-_MAX_AMPLITUDE = 1e50
+# Physical bounds that keep every phase and |F|^2 finite in double precision: a start within
+# 1000 km of the origin, a delay within 1 s, |amplitude| and |profile values| up to 1e30.
+MAX_POSITION = 1e6
+MAX_DELAY = 1.0
+MAX_WEIGHT = 1e30
 # Largest |d . axis| of a transverse current direction (after normalising d).
 PERPENDICULAR_TOLERANCE = 1e-9
 # Gauss-Legendre nodes per piece for the centroid of |w| of a complex or sign-changing profile.
@@ -98,16 +101,17 @@ class Filament:
     Parameters
     ----------
     length : float
-        Length of the column (m), > 0.
+        Length of the column (m), 1e-9 to 1e3.
     start : 3-sequence of float
-        Position where the column begins (m), coordinates within +-1e6 m.
+        Position where the column begins (m), each component within +-MAX_POSITION (1e6).
     axis : 3-sequence of float
         Direction of propagation of the pulse; normalised here (scaled first, so huge or
         tiny components are fine); must not be zero.
     delay : float
-        Time at which the pulse passes ``start`` (s), -1 to 1 s.
+        Time at which the pulse passes ``start`` (s), within +-MAX_DELAY (1 s).
     amplitude : float
-        Factor on this column's current (dimensionless, 1 by default), within +-1e50.
+        Factor on this column's current (dimensionless, 1 by default), within +-MAX_WEIGHT
+        (1e30); profile values have the same bound.
     profile : callable or (z, w) pair of arrays, optional
         Longitudinal profile w(s) along the column, s in metres from ``start``, real or
         complex. A callable must accept an array of s and return an array of the same
@@ -138,15 +142,13 @@ class Filament:
         length = check_scalar("length", self.length, low=_MIN_LENGTH, high=_MAX_LENGTH, unit="m")
         set_(self, "length", length)
         start = check_vector3("start", self.start)
-        if np.max(np.abs(start)) > _MAX_POSITION:
-            raise ValueError(f"start = {shorten(repr(tuple(start.tolist())))} is not allowed; "
-                             f"allowed: coordinates within +-{_MAX_POSITION:g} m")
+        as_float_array("start", start, low=-MAX_POSITION, high=MAX_POSITION, unit="m")
         set_(self, "start", tuple(start.tolist()))
         set_(self, "axis", tuple(unit_vector("axis", self.axis).tolist()))
-        set_(self, "delay", check_scalar("delay", self.delay, low=-_MAX_DELAY, high=_MAX_DELAY,
+        set_(self, "delay", check_scalar("delay", self.delay, low=-MAX_DELAY, high=MAX_DELAY,
                                          unit="s"))
-        set_(self, "amplitude", check_scalar("amplitude", self.amplitude, low=-_MAX_AMPLITUDE,
-                                             high=_MAX_AMPLITUDE))
+        set_(self, "amplitude", check_scalar("amplitude", self.amplitude, low=-MAX_WEIGHT,
+                                             high=MAX_WEIGHT))
         if self.current_direction is not None:
             set_(self, "current_direction", _transverse_direction(self.current_direction,
                                                                   np.asarray(self.axis)))
@@ -302,11 +304,12 @@ def _profile_to_cubic(profile, length):
 def _as_values(name, value):
     """Finite real or complex profile values (float or complex ndarray)."""
     arr = np.asarray(value)
+    bounds = {"low": -MAX_WEIGHT, "high": MAX_WEIGHT}
     if np.iscomplexobj(arr):
-        re = as_float_array(f"{name} (real part)", arr.real)
-        im = as_float_array(f"{name} (imaginary part)", arr.imag)
+        re = as_float_array(f"{name} (real part)", arr.real, **bounds)
+        im = as_float_array(f"{name} (imaginary part)", arr.imag, **bounds)
         return re + 1j * im if np.any(im) else re
-    return as_float_array(name, arr)
+    return as_float_array(name, arr, **bounds)
 
 
 def _transverse_direction(value, axis):

@@ -101,7 +101,7 @@ def cmd_split(args):
     title = f"{design.name}: splitting {1e3 * res.laser_energy:.3g} mJ over N beams"
     none = s.counts[~s.has_column]
     multi = s.counts[s.multi_filament & s.has_column]
-    best = (f"best N = {s.best_count} ({s.phased.max():.3g} {s.unit} phased, "
+    best = (f"best N = {s.best_count} ({res.scale.energy_text(s.phased.max(), s.unit)} phased, "
             f"{s.phased_over_single[np.argmax(s.phased)]:.3g} x one column)"
             if s.best_count else "no N makes a column")
     flags = ((f"; no column (P/P_cr too low) at N = {', '.join(map(str, none))}"
@@ -131,8 +131,8 @@ def cmd_split(args):
     if design.sections.source is not None and design.sections.source.kind == "two-colour":
         notes.append("split uses the laser model's single-colour columns; [source] two-colour "
                      "is not applied to the study")
-    notes.append("the energies use the laser model's nominal constants (see [laser] notes "
-                 "for their published spread)")
+    notes.append(f"energy scale: {res.scale.source}; the range is that of the design's own "
+                 "column, applied to every N (each N's column moves its own way)")
     emit(args, summary, text, design_notes(design, "split") + notes)
     return 0
 

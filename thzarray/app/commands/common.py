@@ -117,10 +117,15 @@ def emit(args, result: dict, text: str, notes=()):
 
     ``notes`` are the command's own (design notes, sections it does not use, library
     notes); warnings are those the library raised while the command ran (caught by the
-    entry point in ``args.caught``).
+    entry point in ``args.caught``), except numpy's RuntimeWarnings, which never reach the
+    user.
     """
     caught = getattr(args, "caught", None) or []
-    warns = _unique(f"{w.category.__name__}: {w.message}" for w in caught)
+    # numpy's floating-point RuntimeWarnings (overflow, invalid value in a temporary) are not
+    # messages for the user: results are checked finite and non-finite numbers are reported
+    # as such; the package's own warnings are UserWarnings.
+    warns = _unique(f"{w.category.__name__}: {w.message}" for w in caught
+                    if not issubclass(w.category, RuntimeWarning))
     notes = _unique(str(n) for n in notes)
     result = dict(result, notes=notes, warnings=warns)
     args.summary = result
@@ -189,7 +194,11 @@ def write_all(out: Path, force: bool, formats, figures=(), tables=(), datasets=(
         plan += [(out / f"{name}.nc", "nc", ds, "") for name, ds in datasets]
     for path, _, _, _ in plan:
         check_writable(path, force)
-    out.mkdir(parents=True, exist_ok=True)
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise ValueError(f"--out = {str(out)[:80]!r} cannot be made a directory "
+                         f"({exc.strerror}); allowed: a writable directory") from None
     written = []
     for path, kind, obj, caption in plan:
         obj = obj() if callable(obj) else obj

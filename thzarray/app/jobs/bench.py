@@ -68,9 +68,10 @@ def split_counts(design: Design):
 class SplitResult:
     """The split study of the design, and the phasing whose target and band it used."""
 
-    study: object       # thzarray.inverse.split.SplitStudy
+    study: object       # thzarray.inverse.split.SplitStudy (energies scaled by ``scale``)
     laser_energy: float
     phased: Phasing
+    scale: object = None  # thzarray.app.jobs.scale.Scale
 
     def summary(self) -> dict:
         s = self.study
@@ -84,11 +85,15 @@ class SplitResult:
                 "phased": s.phased.tolist(), "energy_unit": s.unit,
                 "best_count": s.best_count,
                 "best_phased": None if best is None else float(s.phased[best]),
+                **({} if self.scale is None else self.scale.summary()),
                 **self.phased.summary()}
 
 
 def split(design: Design, toward=None) -> SplitResult:
     """Energy into the design's target versus the number of beams (module docstring)."""
+    from dataclasses import replace
+
+    from thzarray.app.jobs.scale import absolute_scale
     from thzarray.inverse.split import split_study
 
     if design.laser is None:
@@ -99,7 +104,11 @@ def split(design: Design, toward=None) -> SplitResult:
     study = split_study(_pulse(design.laser), counts, family, spacing, phased.target,
                         phased.band, efficiency=efficiency, model=_model(design.laser),
                         medium=design.medium)
-    return SplitResult(study, float(design.laser.energy), phased)
+    scale = absolute_scale(design, phased)
+    k = scale.factor
+    study = replace(study, single=k * study.single, incoherent=k * study.incoherent,
+                    phased=k * study.phased)
+    return SplitResult(study, float(design.laser.energy), phased, scale)
 
 
 @dataclass(frozen=True, eq=False)
