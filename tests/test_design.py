@@ -79,6 +79,11 @@ MALFORMED = [
     ('points = 5 }', 'points = 5000000 }', "observe"),  # huge grid: refused before allocation
     ('[design]\nname = "corpus"', '[design]', "design.name"),
     ('[design]\nname = "corpus"', '[design]\nname = 42', "design.name"),
+    # A NUL or a terminal escape in the name reached file names, netCDF and the terminal.
+    ('[design]\nname = "corpus"', '[design]\nname = "a\\u0000b"', "design.name"),
+    ('[design]\nname = "corpus"', '[design]\nname = "a\\u001b[31mb"', "design.name"),
+    ('[observe]', '[receiver]\ncenter_freq = "0.3 THz"\nbandwidth = "0.1 THz"\n'
+                  'nep = "1e-40 W/Hz^0.5"\n[observe]', "receiver.nep"),
     ('[filament]\nlength = "10 cm"', '', "filament"),
     ('[filament]\nlength = "10 cm"', '[[filaments]]\nlength = "1 cm"\n[[filaments]]\n'
                                      'length = "-1 cm"', "filaments[1].length"),

@@ -112,6 +112,10 @@ class Checker:
             if not isinstance(value, str) or len(value) > 1000:
                 self.fail(path, value, "a string (up to 1000 characters)")
                 return None
+            if not all(c.isprintable() or c in "\t\n" for c in value):
+                # NUL and terminal escapes would reach file names, netCDF and the terminal.
+                self.fail(path, value, "printable text (no control characters)")
+                return None
             return value
         if kind == "int":
             if not isinstance(value, int) or isinstance(value, bool) or not (
