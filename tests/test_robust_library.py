@@ -261,7 +261,7 @@ def test_target_fields_too_large_are_refused_before_allocating():
     band = np.linspace(1e11, 5e11, 9)
 
     def call():
-        with pytest.raises(ValueError, match=r"target fields \(4096 columns x 9 frequencies "
+        with pytest.raises(ValueError, match=r"target_fields \(4096 columns x 9 frequencies "
                                              r"x \d+ target nodes\): the result needs"):
             array_gain(lay, target, band)
 

@@ -276,11 +276,12 @@ class TargetFields:
 
 
 def target_field_bytes(filaments, target, freq, medium) -> int:
-    """Bytes :func:`target_fields` allocates for its fields (columns x band x nodes)."""
+    """Bytes :func:`target_fields` needs at its peak: the fields (complex, two components per
+    column, band frequency and node) and their working copies (``_TARGET_COPIES``)."""
     fils = as_filaments(filaments)
     freq = np.atleast_1d(np.asarray(freq, dtype=float))
     nodes = target.node_count(fils, float(freq.max()), medium)
-    return 64 * len(fils) * freq.size * nodes
+    return _TARGET_COPIES * 32 * len(fils) * freq.size * nodes
 
 
 def target_fields(filaments, target, freq, medium: Medium | None = None,
@@ -312,15 +313,13 @@ def target_fields(filaments, target, freq, medium: Medium | None = None,
     medium = Medium.vacuum() if medium is None else medium
     freq = check_band(freq)
     bw = band_weights(freq, spectral_weight)
-    # The fields and their weighted copy: complex, two components, per column, frequency
-    # and node; refused up front when they cannot fit.
-    check_result_fits("target_fields", target_field_bytes(fils, target, freq, medium),
-                      DEFAULT_MEMORY_BUDGET)
+    # Refused up front, before the quadrature itself is built, when they cannot fit.
+    nodes = target.node_count(fils, float(freq[-1]), medium)
+    check_result_fits(f"target_fields ({len(fils)} columns x {freq.size} frequencies x "
+                      f"{nodes} target nodes)", target_field_bytes(fils, target, freq, medium),
+                      memory_budget, "fewer columns, fewer band frequencies or a smaller "
+                      "aperture")
     th, ph, nw = target.nodes(fils, freq[-1], medium)
-    field_bytes = 16 * 2 * len(fils) * freq.size * th.size
-    check_result_fits(f"target fields ({len(fils)} columns x {freq.size} frequencies x "
-                      f"{th.size} target nodes)", _TARGET_COPIES * field_bytes, memory_budget,
-                      "fewer columns, fewer band frequencies or a smaller aperture")
     g = filament_fields(fils, freq[:, None], th[None, :], ph[None, :], medium, plasma)
     scale = np.sqrt(2 * medium.n_thz * epsilon_0 * c * bw[:, None] * nw[None, :])
     return TargetFields(g * scale[None, :, :, None], 2 * np.pi * freq, target.unit)

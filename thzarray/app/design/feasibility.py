@@ -33,7 +33,7 @@ def _line(key, what, need, budget):
             f"{int(budget)} bytes (the memory budget): fewer points")
 
 
-def _plane_points(plane, receiver_band, filaments, medium):
+def _plane_points(plane, receiver_band, filaments, medium, budget):
     """The map's own check of its points (none closer to a column than the near field
     allows), as a problem line or None."""
     from thzarray.field.nearfield import _check_inputs
@@ -43,7 +43,7 @@ def _plane_points(plane, receiver_band, filaments, medium):
         surf = plane_scan(plane.distance, grid_values(plane.x), grid_values(plane.y),
                           normal=plane.normal, origin=plane.origin)
         _check_inputs(filaments, np.asarray(receiver_band)[:, None, None], surf.points,
-                      medium)
+                      medium, budget)
     except ValueError as exc:
         return f"plane: {exc}"
     return None
@@ -75,7 +75,7 @@ def size_problems(sections, receiver_band, budget: float = DEFAULT_MEMORY_BUDGET
             out.append(_line("plane", f"the map's exact field on {points} points x {n_band} "
                                       "band frequencies", need, budget))
         elif filaments is not None and medium is not None:
-            problem = _plane_points(plane, receiver_band, filaments, medium)
+            problem = _plane_points(plane, receiver_band, filaments, medium, budget)
             out += [problem] if problem else []
     if n_band:
         ranges = (50 if sections.budget is None
