@@ -271,7 +271,7 @@ def stretched_duration(duration, gdd):
     duration : array_like
         Intensity FWHM of the transform-limited input pulse (s), 1e-16 to 1e-9.
     gdd : array_like
-        Group delay dispersion (s^2), any sign, |gdd| <= 1e-20; broadcast with ``duration``.
+        Group delay dispersion (s^2), any sign, ``|gdd| <= 1e-20``; broadcast with ``duration``.
 
     Returns
     -------
