@@ -134,3 +134,37 @@ def test_complex_profile_validation():
         Filament(0.1, profile=([0, 0.1], [1.0, complex(0, np.nan)]))
     with pytest.raises(ValueError, match="imaginary part"):
         Filament(0.1, profile=lambda s: np.where(s > 0.05, complex(1.0, np.inf), 1.0))
+
+
+def test_identical_profiled_columns_share_one_transform_and_match_quad(rng):
+    # An array of identical profiled columns (two-colour-like, different starts, delays and
+    # amplitudes, plus one with another profile) computes each shared profile transform once;
+    # the sum must still equal the radiation integral done by quadrature for each column and
+    # added (superposition: Jackson, Classical Electrodynamics, sec. 9.2, linear in J).
+    other = Filament(0.06, start=(0.0, 4e-3, 0.0), profile=lambda s: 0.5 * two_colour(s))
+    fils = [Filament(0.06, start=(x, y, 0.0), delay=rng.uniform(0, 1e-12),
+                     amplitude=rng.uniform(0.5, 1.5), profile=two_colour)
+            for x, y in ((0.0, 0.0), (2e-3, 0.0), (0.0, 2e-3), (2e-3, 2e-3))] + [other]
+    for _ in range(3):
+        f, th, ph = rng.uniform(0.1e12, 1.0e12), rng.uniform(0, np.pi), rng.uniform(0, 6.28)
+        ref = sum(far_field_quad(fil, f, th, ph, HUMID) for fil in fils)
+        peak = sum(_peak(fil, f, HUMID) for fil in fils)
+        for compiled in (True, False):
+            got = far_field(fils, f, th, ph, HUMID, compiled=compiled).cartesian
+            assert_allclose(got, ref, rtol=1e-8, atol=1e-9 * peak)
+
+
+def test_identical_profiled_columns_are_transformed_once(monkeypatch):
+    # Four identical two-colour columns and one other: two transforms per set of points.
+    calls = []
+    original = _kernels.cubic_transform
+
+    def counting(u, breaks, coefs):
+        calls.append(u.size)
+        return original(u, breaks, coefs)
+
+    monkeypatch.setattr(_kernels, "cubic_transform", counting)
+    fils = [Filament(0.06, start=(x, 0.0, 0.0), profile=two_colour) for x in (0, 1e-3, 2e-3, 3e-3)]
+    fils.append(Filament(0.06, start=(0.0, 4e-3, 0.0), profile=lambda s: 0.5 * two_colour(s)))
+    far_field(fils, 0.5e12, np.linspace(0, 0.3, 50), 0.0, HUMID)
+    assert calls == [50, 50]

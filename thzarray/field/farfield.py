@@ -184,12 +184,35 @@ def _column_phase(fil: Filament, freq, theta, phi, medium):
     return u, phase, t @ d, p @ d
 
 
-def _profiled_sum(fil: Filament, freq, theta, phi, medium, compiled):
-    """Radiation-integral sums (theta, phi components) of one profiled column."""
+# Most distinct shared profile transforms kept per chunk (each one chunk of complex numbers).
+_SHARED_TRANSFORMS = 4
+
+
+def _transform_key(fil: Filament, medium):
+    """What a profiled column's transform depends on (not its start, delay or amplitude)."""
+    pieces = fil.pieces
+    return (fil.axis, fil.group_index_in(medium), pieces.breaks.tobytes(),
+            pieces.coefs.tobytes(), pieces.coefs.dtype.str)
+
+
+def _profiled_sum(fil: Filament, freq, theta, phi, medium, compiled, cache=None):
+    """Radiation-integral sums (theta, phi components) of one profiled column.
+
+    ``cache`` (a dict kept for one set of points, its keys the transforms that more than one
+    column needs) holds those transforms once computed: columns with the same profile, axis
+    and group index (an array of identical columns) share one transform, since u does not
+    depend on the start or the delay. Only shared transforms are kept, at most
+    ``_SHARED_TRANSFORMS`` of them, each one chunk of complex numbers."""
     u, phase, d_t, d_p = _column_phase(fil, freq, theta, phi, medium)
     transform = _kernels.cubic_transform if compiled else _kernels.cubic_transform_numpy
     pieces = fil.pieces
-    term = fil.amplitude * transform(u, pieces.breaks, pieces.coefs) * phase
+    key = _transform_key(fil, medium)
+    shared = None if cache is None else cache.get(key)
+    if shared is None:
+        shared = transform(u, pieces.breaks, pieces.coefs)
+        if cache is not None and key in cache:
+            cache[key] = shared
+    term = fil.amplitude * shared * phase
     return term * d_t, term * d_p
 
 
@@ -243,8 +266,11 @@ def _group_sum(fils, freq, theta, phi, shape, pref, medium, compiled, chunk):
             acc_t, acc_p = kernel(f_c, t_c, p_c, *packed, medium.n_thz)
             e_t[i0:i1] += p_f * acc_t
             e_p[i0:i1] += p_f * acc_p
+        keys = [_transform_key(fil, medium) for fil in profiled]
+        shared_keys = [k for k in dict.fromkeys(keys) if keys.count(k) > 1]
+        transforms = dict.fromkeys(shared_keys[:_SHARED_TRANSFORMS])
         for fil in profiled:
-            st, sp = _profiled_sum(fil, f_c, t_c, p_c, medium, compiled)
+            st, sp = _profiled_sum(fil, f_c, t_c, p_c, medium, compiled, transforms)
             e_t[i0:i1] += p_f * st
             e_p[i0:i1] += p_f * sp
     return e_t.reshape(shape), e_p.reshape(shape)
