@@ -95,6 +95,10 @@ def cmd_waveform(args):
     if res.eo_snr is None:
         notes.append("no electro-optic SNR: [waveform] has no probe_energy, integration_time "
                      "and repetition_rate")
+    from thzarray.app.jobs.context import near_ranges_note
+
+    near = near_ranges_note(design.filaments, res.ranges, "waveform ranges")
+    notes += [near] if near else []
     emit(args, summary, text, design_notes(design, "waveform") + notes)
     return 0
 

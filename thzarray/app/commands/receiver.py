@@ -143,5 +143,9 @@ def cmd_budget(args):
     notes = [f"absolute scale: {scale.source}"] if scale.absolute else []
     if b.snr is None:
         notes.append("no SNR: the receiver has no nep, integration_time and repetition_rate")
+    from thzarray.app.jobs.context import near_ranges_note
+
+    near = near_ranges_note(design.filaments, b.ranges, "budget ranges")
+    notes += [near] if near else []
     emit(args, summary, text, design_notes(design, "budget") + notes + res.notes())
     return 0

@@ -417,6 +417,10 @@ def parse_design(data: dict, path: Path | None = None) -> Design:
         thin = finite_radius_note(plasma)
         notes += [f"[plasma]: {thin}"] if thin else []
     filaments = _sources(checker, data, sec, path, laser_fil)
+    if laser_fil is not None and filaments is not None and len(filaments) > 1:
+        notes.append(f"[laser] describes each beam: each of the {len(filaments)} columns is "
+                     f"made by the whole {1e3 * sec.laser.energy:.3g} mJ pulse (to share one "
+                     "pulse among the columns, see the split command)")
     if sec.steering is not None:
         _check_steering(checker, sec.steering, filaments)
     grid = None

@@ -244,6 +244,21 @@ def phasing(design: Design, toward=None, band=None) -> Phasing:
                    band_source, target_source, method, result)
 
 
+def near_ranges_note(filaments, ranges, what: str) -> str | None:
+    """A note when some of ``ranges`` (m, from the origin) are no farther than the columns'
+    far ends: those receiver points lie behind or beside the plasma, not in front of it."""
+    ends = [np.linalg.norm(np.asarray(f.start) + f.length * np.asarray(f.axis))
+            for f in filaments]
+    far_end = float(max(ends))
+    near = np.asarray(ranges, float)
+    near = near[near <= far_end]
+    if near.size == 0:
+        return None
+    return (f"{what} {', '.join(f'{r:g}' for r in near[:4])}{' ...' if near.size > 4 else ''} "
+            f"m from the origin are no farther than the columns' far end ({far_end:.4g} m): "
+            "those points lie behind or beside the plasma")
+
+
 def target_unit_vector(target) -> np.ndarray:
     """Unit vector toward a target's centre."""
     return unit_vectors(target.theta, target.phi)[0]
