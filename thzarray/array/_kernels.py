@@ -241,47 +241,50 @@ def descending_region_numpy(values, i0, j0, wrap):
         region = new
 
 
+@njit(cache=True)
+def _site_steps(k, rx, ry, rz, origin, a1, a2):
+    """Phasors of one lattice step along a1 and a2, and of the origin, toward (rx, ry, rz)."""
+    p1 = -k * (rx * a1[0] + ry * a1[1] + rz * a1[2])
+    p2 = -k * (rx * a2[0] + ry * a2[1] + rz * a2[2])
+    p0 = -k * (rx * origin[0] + ry * origin[1] + rz * origin[2])
+    return (complex(np.cos(p1), np.sin(p1)), complex(np.cos(p2), np.sin(p2)),
+            complex(np.cos(p0), np.sin(p0)))
+
+
+@njit(cache=True)
+def _horner(coefs, z):
+    """sum_a coefs[a] z^a by Horner's rule."""
+    acc = 0.0j
+    for a in range(coefs.shape[0] - 1, -1, -1):
+        acc = acc * z + coefs[a]
+    return acc
+
+
+@njit(cache=True)
+def _horner2(sites, z1, z2):
+    """sum_ab sites[a, b] z1^a z2^b by Horner's rule in both indices."""
+    acc = 0.0j
+    for a in range(sites.shape[0] - 1, -1, -1):
+        acc = acc * z1 + _horner(sites[a], z2)
+    return acc
+
+
 @njit(cache=True, parallel=True)
 def _lattice_factor(k, theta, phi, origin, a1, a2, phasors, out):
-    rows, cols = phasors.shape
     for i in prange(theta.shape[0]):
         st = np.sin(theta[i])
-        rx = st * np.cos(phi[i])
-        ry = st * np.sin(phi[i])
-        rz = np.cos(theta[i])
-        p1 = -k * (rx * a1[0] + ry * a1[1] + rz * a1[2])
-        p2 = -k * (rx * a2[0] + ry * a2[1] + rz * a2[2])
-        p0 = -k * (rx * origin[0] + ry * origin[1] + rz * origin[2])
-        z1 = complex(np.cos(p1), np.sin(p1))
-        z2 = complex(np.cos(p2), np.sin(p2))
-        acc = 0.0j
-        for a in range(rows - 1, -1, -1):
-            row = 0.0j
-            for b in range(cols - 1, -1, -1):
-                row = row * z2 + phasors[a, b]
-            acc = acc * z1 + row
-        out[i] = acc * complex(np.cos(p0), np.sin(p0))
+        z1, z2, z0 = _site_steps(k, st * np.cos(phi[i]), st * np.sin(phi[i]),
+                                 np.cos(theta[i]), origin, a1, a2)
+        out[i] = _horner2(phasors, z1, z2) * z0
 
 
 @njit(cache=True, parallel=True)
 def _separable_factor(k, theta, phi, origin, a1, a2, row_phasors, col_phasors, out):
     for i in prange(theta.shape[0]):
         st = np.sin(theta[i])
-        rx = st * np.cos(phi[i])
-        ry = st * np.sin(phi[i])
-        rz = np.cos(theta[i])
-        p1 = -k * (rx * a1[0] + ry * a1[1] + rz * a1[2])
-        p2 = -k * (rx * a2[0] + ry * a2[1] + rz * a2[2])
-        p0 = -k * (rx * origin[0] + ry * origin[1] + rz * origin[2])
-        z1 = complex(np.cos(p1), np.sin(p1))
-        z2 = complex(np.cos(p2), np.sin(p2))
-        f1 = 0.0j
-        for a in range(row_phasors.shape[0] - 1, -1, -1):
-            f1 = f1 * z1 + row_phasors[a]
-        f2 = 0.0j
-        for b in range(col_phasors.shape[0] - 1, -1, -1):
-            f2 = f2 * z2 + col_phasors[b]
-        out[i] = f1 * f2 * complex(np.cos(p0), np.sin(p0))
+        z1, z2, z0 = _site_steps(k, st * np.cos(phi[i]), st * np.sin(phi[i]),
+                                 np.cos(theta[i]), origin, a1, a2)
+        out[i] = _horner(row_phasors, z1) * _horner(col_phasors, z2) * z0
 
 
 def lattice_factor(k, theta, phi, origin, a1, a2, phasors):
@@ -352,20 +355,9 @@ def _lattice_columns(k, u, theta, phi, origin, a1, a2, index, phasor, length, sh
         st = np.sin(theta[it])
         ct = np.cos(theta[it])
         for ip in range(nphi):
-            rx = st * cos_phi[ip]
-            ry = st * sin_phi[ip]
-            p1 = -k * (rx * a1[0] + ry * a1[1] + ct * a1[2])
-            p2 = -k * (rx * a2[0] + ry * a2[1] + ct * a2[2])
-            p0 = -k * (rx * origin[0] + ry * origin[1] + ct * origin[2])
-            z1 = complex(np.cos(p1), np.sin(p1))
-            z2 = complex(np.cos(p2), np.sin(p2))
-            acc = 0.0j
-            for a in range(rows - 1, -1, -1):
-                row = 0.0j
-                for b in range(cols - 1, -1, -1):
-                    row = row * z2 + sites[a, b]
-                acc = acc * z1 + row
-            out[it, ip] = acc * complex(np.cos(p0), np.sin(p0))
+            z1, z2, z0 = _site_steps(k, st * cos_phi[ip], st * sin_phi[ip], ct, origin, a1,
+                                     a2)
+            out[it, ip] = _horner2(sites, z1, z2) * z0
 
 
 def lattice_columns(k, u, theta, phi, origin, a1, a2, index, phasor, length, shape):
@@ -430,20 +422,9 @@ def _lattice_separable(k, column, theta, phi, origin, a1, a2, rows, cols, out):
         st = np.sin(theta[it])
         ct = np.cos(theta[it])
         for ip in range(phi.shape[0]):
-            rx = st * cos_phi[ip]
-            ry = st * sin_phi[ip]
-            p1 = -k * (rx * a1[0] + ry * a1[1] + ct * a1[2])
-            p2 = -k * (rx * a2[0] + ry * a2[1] + ct * a2[2])
-            p0 = -k * (rx * origin[0] + ry * origin[1] + ct * origin[2])
-            z1 = complex(np.cos(p1), np.sin(p1))
-            z2 = complex(np.cos(p2), np.sin(p2))
-            f1 = 0.0j
-            for a in range(rows.shape[0] - 1, -1, -1):
-                f1 = f1 * z1 + rows[a]
-            f2 = 0.0j
-            for b in range(cols.shape[0] - 1, -1, -1):
-                f2 = f2 * z2 + cols[b]
-            out[it, ip] = column[it] * f1 * f2 * complex(np.cos(p0), np.sin(p0))
+            z1, z2, z0 = _site_steps(k, st * cos_phi[ip], st * sin_phi[ip], ct, origin, a1,
+                                     a2)
+            out[it, ip] = column[it] * _horner(rows, z1) * _horner(cols, z2) * z0
 
 
 def lattice_separable(k, column, theta, phi, origin, a1, a2, rows, cols):
