@@ -25,8 +25,10 @@ from thzarray.array.arrayfield import NUFFT_CROSSOVER, array_far_field
 from thzarray.array.beam import steering_report
 from thzarray.array.designer import design_steering
 from thzarray.array.layouts import grid
+from thzarray.array.maps import sky_grid, sky_map
 from thzarray.array.steering import steering_delays
-from thzarray.array.targets import Direction
+from thzarray.array.targets import Aperture, Direction
+from thzarray.array.tolerance import tolerance
 from thzarray.field.nufft import nufft_far_field
 
 MEDIUM = Medium.air(relative_humidity=0.4)
@@ -159,26 +161,125 @@ def crossover(counts=(16, 64, 256, 1024), nfreq=(1, 4, 16)):
         print(f"  F = {nf:2d}: " + ", ".join(cells))
 
 
+def _steered_grid(n):
+    side = int(round(np.sqrt(n)))
+    fils = grid((side, side), 1.5e-3, 0.02)
+    return [f.replace(delay=d) for f, d in zip(fils, steering_delays(fils, 0.12, 0.3, MEDIUM))]
+
+
+_STEER_DESIGN = """[design]
+name = "bench grid"
+[medium]
+temperature = "20 degC"
+relative_humidity = "40 %"
+[layout]
+kind = "grid"
+shape = [{side}, {side}]
+spacing = "1.5 mm"
+length = "20 mm"
+[steering]
+toward = ["6.9 deg", "17 deg"]
+aperture_radius = "5 mm"
+aperture_distance = "0.5 m"
+band = ["0.2 THz", "0.4 THz"]
+band_points = 5
+[tolerance]
+timing_jitter = "0.2 ps"
+transverse_error = "50 um"
+trials = {trials}
+"""
+
+
+def _command(name, n, trials=500):
+    """Wall time of ``thzarray <name>`` on a steered square grid of n columns, in-process."""
+    from thzarray.app.cli import main
+
+    with tempfile.TemporaryDirectory() as tmp:
+        path = os.path.join(tmp, "grid.toml")
+        with open(path, "w") as fh:
+            fh.write(_STEER_DESIGN.format(side=int(round(np.sqrt(n))), trials=trials))
+        t0 = time.perf_counter()
+        with open(os.devnull, "w") as null:
+            saved = sys.stdout
+            sys.stdout = null
+            try:
+                code = main([name, path, "--out", os.path.join(tmp, "out")])
+            finally:
+                sys.stdout = saved
+        if code:
+            raise RuntimeError(f"thzarray {name} exited {code}")
+        return time.perf_counter() - t0
+
+
 def reports(counts=(16, 256, 1024)):
+    """The report, the designer, the Monte Carlo and the steer command, each against one
+    sky map of the same layout on the report's own grid (the reference)."""
     freq = np.linspace(0.2e12, 0.4e12, 5)
     target = Direction(0.12, 0.3)
-    print("steering_report / design_steering (5 frequencies, default sky grid):")
-    t_r, t_s = [], []
+    aperture = Aperture(0.12, 0.3, 5e-3, 0.5)
+    print("reports on steered square grids (5 frequencies, default sky grid); each time also "
+          "as a multiple of one sky map of the same layout on that grid:")
+    print(f"  {'N':>5s} {'sky map s':>10s} {'report s':>9s} {'designer s':>11s} "
+          f"{'tolerance s':>12s} {'steer cmd s':>12s} {'in sky maps':>30s}")
+    rows = []
     for n in counts:
-        side = int(round(np.sqrt(n)))
-        fils = grid((side, side), 1.5e-3, 0.02)
-        fils = [f.replace(delay=d) for f, d in zip(fils, steering_delays(fils, 0.12, 0.3,
-                                                                         MEDIUM))]
+        fils = _steered_grid(n)
+        th, ph = sky_grid(fils, freq, MEDIUM)
+        t_map = best_time(lambda fils=fils, th=th, ph=ph: sky_map(fils, th, ph, freq, MEDIUM), 1)
         t0 = time.perf_counter()
         steering_report(fils, target, freq, MEDIUM)
-        t_r.append(time.perf_counter() - t0)
+        t_rep = time.perf_counter() - t0
         t0 = time.perf_counter()
         design_steering(fils, target, freq, medium=MEDIUM)
-        t_s.append(time.perf_counter() - t0)
-        print(f"  N = {n:5d}: steering_report {t_r[-1]:7.2f} s, design_steering {t_s[-1]:7.2f} s")
+        t_des = time.perf_counter() - t0
+        t0 = time.perf_counter()
+        tolerance(fils, aperture, freq, timing_jitter=0.2e-12, transverse_error=50e-6,
+                  trials=500, medium=MEDIUM)
+        t_tol = time.perf_counter() - t0
+        t_cmd = _command("steer", n)
+        rows.append((t_map, t_rep, t_des, t_tol, t_cmd))
+        ratios = "/".join(f"{t / t_map:.0f}" for t in (t_rep, t_des, t_tol, t_cmd))
+        print(f"  {n:5d} {t_map:10.2f} {t_rep:9.2f} {t_des:11.2f} {t_tol:12.2f} {t_cmd:12.2f} "
+              f"{ratios:>30s}")
     if len(counts) > 1:
-        print(f"  cost ~ N^{np.polyfit(np.log(counts), np.log(t_r), 1)[0]:.2f} (report), "
-              f"~ N^{np.polyfit(np.log(counts), np.log(t_s), 1)[0]:.2f} (designer)")
+        fits = [np.polyfit(np.log(counts), np.log([r[i] for r in rows]), 1)[0]
+                for i in range(5)]
+        print("  cost ~ N^a, a = " + ", ".join(
+            f"{a:.2f} ({name})" for a, name in zip(fits, ("sky map", "report", "designer",
+                                                           "tolerance, 500 builds",
+                                                           "steer command"))))
+    print("  (tolerance: an aperture of 5 mm at 0.5 m, 500 builds; steer: the command with its "
+          "figures and files, in this process)")
+
+
+def scaling():
+    """Cost exponents of the direct far-field sum in columns, directions and frequencies
+    (random positions, mixed lengths), each fitted over a factor of 16 or more."""
+    rng = np.random.default_rng(4)
+    fils64 = _random_positions(64, rng)
+
+    def fit(xs, ts):
+        return np.polyfit(np.log(xs), np.log(ts), 1)[0]
+
+    cols = (16, 64, 256, 1024)
+    t_c = [best_time(lambda n=n: far_field(_random_positions(n, np.random.default_rng(n)),
+                                           FREQ, THETA[::2], PHI[::2], MEDIUM), 1)
+           for n in cols]
+    dirs = (32, 64, 128, 256)
+    t_d = [best_time(lambda m=m: far_field(fils64, FREQ, np.linspace(0, 0.5, m)[:, None],
+                                           2 * np.pi * np.arange(m) / m, MEDIUM), 1)
+           for m in dirs]
+    nfs = (1, 4, 16, 64)
+    t_f = [best_time(lambda k=k: far_field(fils64, np.linspace(0.2e12, 0.5e12, k)[:, None, None],
+                                           THETA[::2], PHI[::2], MEDIUM), 1)
+           for k in nfs]
+    print("cost of the direct compiled sum (random positions, mixed lengths):")
+    print("  columns " + ", ".join(f"{n}: {t:.4f} s" for n, t in zip(cols, t_c))
+          + f"  -> ~ N^{fit(cols, t_c):.2f} (128 x 128 directions, 1 frequency)")
+    print("  directions " + ", ".join(f"{m * m}: {t:.4f} s" for m, t in zip(dirs, t_d))
+          + f"  -> ~ M^{fit(np.square(dirs), t_d):.2f} (64 columns, 1 frequency)")
+    print("  frequencies " + ", ".join(f"{k}: {t:.4f} s" for k, t in zip(nfs, t_f))
+          + f"  -> ~ F^{fit(nfs, t_f):.2f} (64 columns, 128 x 128 directions, equally spaced)")
 
 
 _FIRST_CALL = ("import time; t0 = time.perf_counter(); import numpy as np; "
@@ -207,6 +308,8 @@ def run(quick=False):
     large_arrays()
     print()
     crossover()
+    print()
+    scaling()
     print()
     reports((16, 256) if quick else (16, 256, 1024))
     print()

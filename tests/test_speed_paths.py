@@ -11,7 +11,7 @@ from numpy.testing import assert_allclose
 from scipy.constants import c
 
 from thzarray import Filament, Medium, far_field
-from thzarray.array import _kernels
+from thzarray.array import _lattice_kernels as _kernels
 from thzarray.array.arrayfield import array_factor, array_far_field
 from thzarray.array.beam import steering_report
 from thzarray.array.lattice import find_lattice, site_phasors
@@ -172,7 +172,7 @@ def test_auto_above_crossover_takes_nufft_within_tolerance(monkeypatch):
         return real(*args, **kw)
 
     monkeypatch.setattr(arrayfield, "nufft_far_field", spy)
-    theta, phi = np.linspace(0.0, 0.5, 64)[:, None], np.linspace(0.0, 6.0, 70)
+    theta, phi = np.linspace(0.0, 0.5, 128)[:, None], np.linspace(0.0, 6.0, 130)
     assert theta.size * phi.size >= arrayfield.NUFFT_MIN_POINTS
     got = array_far_field(fils, 0.4e12, theta, phi, MEDIUM, rtol=1e-8)
     ref = far_field(fils, 0.4e12, theta, phi, MEDIUM)
@@ -223,3 +223,17 @@ def test_lattice_separable_kernel_equals_twin():
             np.exp(1j * rng.uniform(0, 6, 5)))
     assert_allclose(_kernels.lattice_separable(*args), _kernels.lattice_separable_numpy(*args),
                     rtol=0, atol=1e-12 * 0.02 * 20)
+
+
+def test_separable_lattice_factor_equals_twin():
+    # Row x column phasors (a steered grid) through the separable Horner kernel against the
+    # direct sum over the sites; directions in several blocks, one partial block.
+    rng = np.random.default_rng(21)
+    rows = rng.normal(size=6) + 1j * rng.normal(size=6)
+    cols = rng.normal(size=9) + 1j * rng.normal(size=9)
+    theta, phi = rng.uniform(0, np.pi, 333), rng.uniform(0, 2 * np.pi, 333)
+    args = (2e4, theta, phi, np.array([1e-3, 0, 0.01]), np.array([1.5e-3, 0, 0]),
+            np.array([0.7e-3, 1.3e-3, 0]))
+    assert_allclose(_kernels.lattice_factor(*args, (rows, cols)),
+                    _kernels.lattice_factor_numpy(*args, (rows, cols)),
+                    rtol=0, atol=1e-12 * np.abs(np.outer(rows, cols)).sum())

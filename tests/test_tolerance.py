@@ -107,3 +107,25 @@ def test_bad_inputs_raise():
         tolerance(lay, Direction(0.2), [0.3e12], trials=1)
     with pytest.raises(ValueError, match="transverse_error"):
         tolerance(lay, Direction(0.2), [0.3e12], transverse_error=np.nan)
+
+
+@pytest.mark.parametrize("nodes", [1, 5, 130])
+def test_trial_kernel_equals_twin(nodes):
+    # The compiled build energies against the numpy twin (same formula, module docstring of
+    # thzarray.array._trial_kernels): node counts below, at and above one block, more builds
+    # than share one pass over the fields.
+    from thzarray.array._trial_kernels import trial_energies, trial_energies_numpy
+
+    rng = np.random.default_rng(nodes)
+    n, f, s = 7, 3, 70
+    g = rng.normal(size=(n, f, nodes, 2)) + 1j * rng.normal(size=(n, f, nodes, 2))
+    omega = 2 * np.pi * np.linspace(0.2e12, 0.6e12, f)
+    u, v, w = (rng.normal(size=(n, nodes)) * 3e-9 for _ in range(3))
+    errs = [rng.normal(size=(s, n)) * x for x in (3e-13, 5e-5, 5e-5, 2e-4)]
+    got = trial_energies(g, omega, u, v, w, *errs)
+    ref = trial_energies_numpy(g, omega, u, v, w, *errs)
+    assert_allclose(got, ref, rtol=1e-12)
+    # No errors: every build gives the designed energy sum_fjc |sum_n g|^2.
+    zero = [np.zeros((3, n))] * 4
+    assert_allclose(trial_energies(g, omega, u, v, w, *zero),
+                    np.sum(np.abs(g.sum(axis=0)) ** 2), rtol=1e-12)

@@ -20,6 +20,7 @@ from scipy.constants import c
 
 from thzarray.air.medium import Medium
 from thzarray.array import _kernels as _array_kernels
+from thzarray.array import _lattice_kernels
 from thzarray.array.lattice import find_lattice, lattice_far_field, site_phasors
 from thzarray.base.checks import check_scalar, shorten
 from thzarray.base.geometry import unit_vectors
@@ -45,17 +46,17 @@ __all__ = [
 METHODS = ("auto", "direct", "nufft")
 # method="auto" takes the non-uniform FFT for a layout whose columns differ when there are
 # more than this many columns per distinct frequency (identical columns always take element
-# x array factor). Measured on the project's shared 2-core machine by
-# benchmarks/bench_speed.py (README, Performance), random positions, 128 x 128 directions,
-# rtol 1e-9: the direct compiled sum and finufft break even between 64 and 256 columns at
-# one frequency, near 256 at 4 and above 1024 at 16 equally spaced frequencies (the direct
-# sum steps through equally spaced frequencies by a recurrence; the transform is redone
-# for each frequency).
-NUFFT_CROSSOVER = 100
+# x array factor). Measured on the project's 2-core machine by benchmarks/bench_speed.py
+# (README, Speed where users wait), random positions, rtol 1e-9, with the vectorised direct
+# sum: at one frequency the two break even near 256 columns on 256 x 256 directions and near
+# 1024 on 128 x 128; at 4 and 16 equally spaced frequencies the direct sum is still faster
+# at 1024 columns (it steps through equally spaced frequencies by a recurrence; the
+# transform is redone for each frequency).
+NUFFT_CROSSOVER = 512
 # ... and only with at least this many evaluation points per distinct frequency: a transform
-# has a fixed cost near 0.1 s here (the bare finufft call on 16 columns, same benchmark),
-# which the direct sum of a thousand columns does not reach below a few thousand points.
-NUFFT_MIN_POINTS = 4096
+# has a fixed cost of 0.03 to 0.05 s here (the bare finufft call on 16 columns, same
+# benchmark), which the direct sum of a thousand columns reaches near 16384 points.
+NUFFT_MIN_POINTS = 16384
 
 
 def _nufft_pays(columns: int, n_freq: int, shape: tuple) -> bool:
@@ -174,7 +175,7 @@ def array_factor(filaments, freq, theta, phi, medium: Medium | None = None, *,
         for fj in values:
             idx = np.flatnonzero(bf == fj) if values.size > 1 else slice(None)
             omega = 2 * np.pi * fj
-            out[idx] = _array_kernels.lattice_factor(
+            out[idx] = _lattice_kernels.lattice_factor(
                 omega * medium.n_thz / c, bt[idx], bp[idx], lattice.origin, lattice.a1,
                 lattice.a2, site_phasors(lattice, delay, amplitude, omega))
         return out.reshape(shape)

@@ -171,7 +171,7 @@ def lattice_far_field(fils, freq, theta, phi, shape, medium, plasma):
     """
     from scipy.constants import c
 
-    from thzarray.array import _kernels
+    from thzarray.array import _lattice_kernels as _kernels
     from thzarray.field.farfield import FarField, radiation_prefactor, spectral_groups
 
     if freq.size != 1 or len(fils) < 3:

@@ -30,6 +30,8 @@ Conventions shared by the whole package
 
 from __future__ import annotations
 
+import copy
+import math
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -248,12 +250,38 @@ class Filament:
         return np.where(inside, val, 0.0)
 
     def replace(self, **changes) -> "Filament":
-        """A copy with some parameters changed (validated again)."""
+        """A copy with some parameters changed (validated again).
+
+        Changing only ``delay`` and/or ``amplitude`` (what steering and Monte-Carlo builds
+        do to every column, many times) checks just those two and shares the rest, profile
+        pieces included, instead of rebuilding the column.
+        """
+        if changes and set(changes) <= _CHEAP_CHANGES.keys():
+            values = {k: _plain_float(v) for k, v in changes.items()}
+            if all(v is not None and abs(v) <= _CHEAP_CHANGES[k] for k, v in values.items()):
+                new = copy.copy(self)
+                for k, v in values.items():
+                    object.__setattr__(new, k, v)
+                return new
         args = dict(length=self.length, start=self.start, axis=self.axis, delay=self.delay,
                     amplitude=self.amplitude, profile=self.profile,
                     current_direction=self.current_direction, group_index=self.group_index)
         args.update(changes)
         return Filament(**args)
+
+
+# Keys that Filament.replace may change without rebuilding, with their bounds.
+_CHEAP_CHANGES = {"delay": MAX_DELAY, "amplitude": MAX_WEIGHT}
+
+
+def _plain_float(value):
+    """``value`` as a finite float when it is a real Python or numpy scalar, else None (the
+    full check then reports it)."""
+    if isinstance(value, (bool, np.bool_)) or not isinstance(value, (int, float, np.integer,
+                                                                    np.floating)):
+        return None
+    value = float(value)
+    return value if math.isfinite(value) else None
 
 
 def _profile_to_cubic(profile, length):
