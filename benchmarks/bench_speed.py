@@ -187,6 +187,10 @@ band_points = 5
 timing_jitter = "0.2 ps"
 transverse_error = "50 um"
 trials = {trials}
+[observe]
+freq = ["0.2 THz", "0.3 THz", "0.4 THz"]
+theta = {{ start = "0 deg", stop = "20 deg", points = 161 }}
+phi = {{ start = "0 deg", stop = "360 deg", points = 73 }}
 """
 
 

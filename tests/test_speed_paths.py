@@ -237,3 +237,21 @@ def test_separable_lattice_factor_equals_twin():
     assert_allclose(_kernels.lattice_factor(*args, (rows, cols)),
                     _kernels.lattice_factor_numpy(*args, (rows, cols)),
                     rtol=0, atol=1e-12 * np.abs(np.outer(rows, cols)).sum())
+
+
+@pytest.mark.parametrize("nfreq, equal", [(1, True), (3, False), (70, True), (70, False)])
+def test_array_factor_grid_kernel_equals_twin(nfreq, equal):
+    # Balanis, arrays chapter: AF = sum_n q_n exp(i w (t_n - n_T r.r_n / c)); the compiled
+    # blocks (recurrence re-seeded every 32 equal steps) against the numpy twin's exponentials.
+    from thzarray.array import _kernels as array_kernels
+
+    rng = np.random.default_rng(nfreq + equal)
+    freq = (np.linspace(0.1e12, 1.0e12, nfreq) if equal
+            else np.sort(rng.uniform(0.1e12, 1.0e12, nfreq)))
+    theta, phi = rng.uniform(0, np.pi, 300), rng.uniform(0, 2 * np.pi, 300)
+    start = rng.uniform(-0.02, 0.02, (40, 3))
+    delay, amp = rng.uniform(0, 2e-12, 40), rng.normal(size=40)
+    args = (freq, theta, phi, start, delay, amp, 1.0003)
+    assert_allclose(array_kernels.array_factor_grid(*args),
+                    array_kernels.array_factor_grid_numpy(*args),
+                    rtol=0, atol=1e-12 * np.abs(amp).sum())

@@ -12,9 +12,11 @@ factor of columns starting at :math:`\mathbf r_n` with delays :math:`t_n` and am
 
 ``array_factor_grid`` evaluates it on F frequencies times M directions. When the
 frequencies are equally spaced it takes :math:`e^{i\omega_j p_n}` from
-:math:`e^{i\omega_0 p_n}` by repeated multiplication with :math:`e^{i\Delta\omega p_n}`: two
-sine/cosine pairs per (direction, column) instead of one per frequency, with a rounding
-error that grows like j times the machine epsilon.
+:math:`e^{i\omega_0 p_n}` by repeated multiplication with :math:`e^{i\Delta\omega p_n}`,
+re-evaluated exactly every 32 steps: about two sine/cosine pairs per (direction, column)
+instead of one per frequency, with a rounding error of at most 32 steps' worth. Directions
+are taken in blocks and the inner loops run over a block in plain arithmetic
+(:func:`thzarray.base.trig.cis`), which the compiler vectorises.
 
 ``descending_region`` marks the grid points reached from a start point by steps to one of
 the 8 neighbours that never go up: the basin of a lobe, bounded by its nulls.
@@ -39,39 +41,52 @@ __all__ = [
 
 
 @njit(cache=True, parallel=True)
-def _array_factor_grid(freq, theta, phi, start, delay, amplitude, n_thz, equal_steps, out):
+def _array_factor_grid(freq, theta, phi, start, delay, amplitude, n_thz, equal_steps, block,
+                       out):
     m = theta.shape[0]
     nfreq = freq.shape[0]
     ncol = start.shape[0]
     w0 = 2.0 * np.pi * freq[0]
     dw = 2.0 * np.pi * (freq[1] - freq[0]) if nfreq > 1 else 0.0
     scale = n_thz / _C
-    for i in prange(m):
-        st = np.sin(theta[i])
-        rx = st * np.cos(phi[i])
-        ry = st * np.sin(phi[i])
-        rz = np.cos(theta[i])
-        acc_r = np.zeros(nfreq)
-        acc_i = np.zeros(nfreq)
+    for b in prange((m + block - 1) // block):
+        i0 = b * block
+        k = min(m, i0 + block) - i0
+        # Working arrays allocated here, so that the compiler vectorises the loops over i.
+        rx = np.empty(k)
+        ry = np.empty(k)
+        rz = np.empty(k)
+        p = np.empty(k)
+        zr = np.empty(k)
+        zi = np.empty(k)
+        sr = np.empty(k)
+        si = np.empty(k)
+        acc_r = np.zeros((nfreq, k))
+        acc_i = np.zeros((nfreq, k))
+        for i in range(k):
+            st = np.sin(theta[i0 + i])
+            rx[i] = scale * st * np.cos(phi[i0 + i])
+            ry[i] = scale * st * np.sin(phi[i0 + i])
+            rz[i] = scale * np.cos(theta[i0 + i])
         for n in range(ncol):
-            p = delay[n] - scale * (rx * start[n, 0] + ry * start[n, 1] + rz * start[n, 2])
             q = amplitude[n]
-            if equal_steps:
-                zr, zi = cis(w0 * p)
-                zr *= q
-                zi *= q
-                sr, si = cis(dw * p)
-                for j in range(nfreq):
-                    acc_r[j] += zr
-                    acc_i[j] += zi
-                    zr, zi = zr * sr - zi * si, zr * si + zi * sr
-            else:
-                for j in range(nfreq):  # vectorised: arithmetic only
-                    cr, ci = cis(2.0 * np.pi * freq[j] * p)
-                    acc_r[j] += q * cr
-                    acc_i[j] += q * ci
-        for j in range(nfreq):
-            out[i, j] = complex(acc_r[j], acc_i[j])
+            for i in range(k):
+                p[i] = delay[n] - (rx[i] * start[n, 0] + ry[i] * start[n, 1] + rz[i] * start[n, 2])
+                sr[i], si[i] = cis(dw * p[i])
+            for j in range(nfreq):
+                if not equal_steps or j % 32 == 0:  # exact every 32 steps
+                    wj = 2.0 * np.pi * freq[j] if not equal_steps else w0 + j * dw
+                    for i in range(k):
+                        zr[i], zi[i] = cis(wj * p[i])
+                for i in range(k):  # vectorised: arithmetic only
+                    acc_r[j, i] += q * zr[i]
+                    acc_i[j, i] += q * zi[i]
+                    u = zr[i] * sr[i] - zi[i] * si[i]
+                    zi[i] = zr[i] * si[i] + zi[i] * sr[i]
+                    zr[i] = u
+        for i in range(k):
+            for j in range(nfreq):
+                out[i0 + i, j] = complex(acc_r[j, i], acc_i[j, i])
 
 
 def array_factor_grid(freq, theta, phi, start, delay, amplitude, n_thz):
@@ -102,7 +117,8 @@ def array_factor_grid(freq, theta, phi, start, delay, amplitude, n_thz):
                        np.ascontiguousarray(phi, dtype=float),
                        np.ascontiguousarray(start, dtype=float),
                        np.ascontiguousarray(delay, dtype=float),
-                       np.ascontiguousarray(amplitude, dtype=float), float(n_thz), equal, out)
+                       np.ascontiguousarray(amplitude, dtype=float), float(n_thz), equal,
+                       int(min(256, max(8, 32768 // max(1, freq.size)))), out)
     return out
 
 
