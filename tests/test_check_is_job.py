@@ -74,9 +74,26 @@ PROBES = {
         "pattern", "observe", False),
     "huge tolerance trials": (BASE + "[tolerance]\ntrials = 100000000\n", "tolerance",
                               "tolerance.trials", False),
+    # Within the per-key cap but over the work cap (array.tolerance.MAX_TRIAL_TERMS):
+    # 1e6 builds x 256 columns x 9 band frequencies x some hundreds of aperture nodes.
+    "tolerance work over the cap": (
+        BASE.replace('[filament]\nlength = "30 cm"\n', '[layout]\nkind = "grid"\n'
+                     'shape = [16, 16]\nspacing = "1.5 mm"\nlength = "3 cm"\n')
+        + '[steering]\ntoward = ["10 deg", "0 deg"]\naperture_radius = "5 mm"\n'
+          'aperture_distance = "0.5 m"\nband = ["0.1 THz", "0.5 THz"]\nband_points = 9\n'
+          '[tolerance]\ntiming_jitter = "0.2 ps"\ntrials = 1000000\n',
+        "tolerance", "tolerance.trials", False),
     "waveform window without a frequency": (
         BASE + '[waveform]\nduration = "0.1 ps"\nbandwidth = "10 GHz"\n', "waveform",
         "waveform.bandwidth", False),
+    # A receiver point on the column itself, along theta = 0 inside the 30 cm plasma: the
+    # exact field is singular there (Jackson eq. 9.18 has 1/R^3 terms).
+    "budget range on the column": (
+        BASE + RECEIVER + '[budget]\nranges = ["10 cm", "2 m"]\ntheta = "0 deg"\n', "budget",
+        "budget.ranges", False),
+    "waveform range on the column": (
+        BASE + '[waveform]\nranges = ["20 cm", "5 m"]\ntheta = "0 deg"\n', "waveform",
+        "waveform.ranges", False),
     "zero-length column": (BASE.replace('"30 cm"', '"1e-12 m"'), "pattern", "filament.length",
                            False),
     "focal length below 1 mm": (

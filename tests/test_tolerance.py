@@ -129,3 +129,26 @@ def test_trial_kernel_equals_twin(nodes):
     zero = [np.zeros((3, n))] * 4
     assert_allclose(trial_energies(g, omega, u, v, w, *zero),
                     np.sum(np.abs(g.sum(axis=0)) ** 2), rtol=1e-12)
+
+
+def test_work_cap_refuses_what_would_run_for_hours(monkeypatch):
+    # common practice, no source: the work cap MAX_TRIAL_TERMS bounds builds x columns x
+    # frequencies x nodes; at the limit the call passes the check, one build more is refused
+    # naming trials and the limit (the cap lowered here so that a small case reaches it).
+    from thzarray.array import tolerance as tol
+
+    lay = steered(grid((4, 4), 1.5e-3, 0.02), Direction(0.15, 0.0))
+    rx, freq = Aperture(0.15, 0.0, 0.05, 0.5), [0.3e12, 0.4e12]
+    nodes = rx.node_count(lay, 0.4e12, HUMID)
+    assert tol.max_trials(lay, rx, freq, HUMID) == min(
+        tol.MAX_TRIALS, tol.MAX_TRIAL_TERMS // (16 * 2 * nodes))
+    monkeypatch.setattr(tol, "MAX_TRIAL_TERMS", 16 * 2 * nodes * 50)
+    assert tol.max_trials(lay, rx, freq, HUMID) == 50
+    assert tol.trials_problem(50, lay, rx, freq, HUMID) is None
+    msg = tol.trials_problem(51, lay, rx, freq, HUMID)
+    assert msg.startswith("trials = 51 is not allowed; allowed: at most 50 for 16 columns x 2 "
+                          f"band frequencies x {nodes} target nodes")
+    with pytest.raises(ValueError, match="trials = 51"):
+        tolerance(lay, rx, freq, timing_jitter=1e-13, trials=51, medium=HUMID)
+    assert tolerance(lay, rx, freq, timing_jitter=1e-13, trials=50, medium=HUMID).samples.size \
+        == 50

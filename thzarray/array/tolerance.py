@@ -48,7 +48,35 @@ from thzarray.base.geometry import axis_frame, unit_vectors
 from thzarray.source.filament import as_filaments
 from thzarray.source.plasma import Plasma
 
-__all__ = ["ToleranceResult", "phase_error_variance", "tolerance"]
+__all__ = ["MAX_TRIAL_TERMS", "ToleranceResult", "max_trials", "phase_error_variance",
+           "tolerance"]
+
+MAX_TRIAL_TERMS = 3 * 10**11
+"""Most terms (builds x columns x band frequencies x target nodes) one call may sum: about
+5 minutes on this project's 2-core machine at the measured 1 to 1.7 ns per term."""
+
+
+def max_trials(filaments, target, freq, medium: Medium | None = None) -> int:
+    """Most builds :func:`tolerance` accepts for this layout, target and band: the per-call
+    cap (``MAX_TRIALS``) or the work cap (:data:`MAX_TRIAL_TERMS`), whichever is lower."""
+    fils = as_filaments(filaments)
+    medium = Medium.vacuum() if medium is None else medium
+    freq = np.atleast_1d(np.asarray(freq, dtype=float))
+    nodes = target.node_count(fils, float(freq.max()), medium)
+    return int(min(MAX_TRIALS, MAX_TRIAL_TERMS // (len(fils) * freq.size * nodes)))
+
+
+def trials_problem(trials, filaments, target, freq, medium) -> str | None:
+    """Why ``trials`` builds are too many for this layout, target and band, or None."""
+    limit = max_trials(filaments, target, freq, medium)
+    if trials <= limit:
+        return None
+    fils = as_filaments(filaments)
+    freq = np.atleast_1d(np.asarray(freq, dtype=float))
+    nodes = target.node_count(fils, float(freq.max()), medium)
+    return (f"trials = {trials} is not allowed; allowed: at most {max(limit, 2)} for "
+            f"{len(fils)} columns x {freq.size} band frequencies x {nodes} target nodes (at "
+            f"most {MAX_TRIAL_TERMS:.0e} terms in all, about 5 minutes on 2 cores)")
 
 
 @dataclass(frozen=True, eq=False)
@@ -155,6 +183,9 @@ def tolerance(filaments, target, freq, *, timing_jitter=0.0, transverse_error=0.
     fils = as_filaments(filaments)
     medium = Medium.vacuum() if medium is None else medium
     trials = check_count("trials", trials, low=2, high=MAX_TRIALS)
+    problem = trials_problem(trials, fils, target, freq, medium)
+    if problem:
+        raise ValueError(problem)
     pct = check_scalar("percentile", percentile, low=0.0, high=100.0)
     st = check_scalar("timing_jitter", timing_jitter, low=0.0, unit="s")
     sp = check_scalar("transverse_error", transverse_error, low=0.0, unit="m")

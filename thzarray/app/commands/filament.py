@@ -73,11 +73,17 @@ def _driver_flags(args, medium):
 
 
 def cmd_check(args):
-    from thzarray.app.design import load_design
+    from thzarray.app.design import DesignError, load_design
     from thzarray.app.jobs import phasing
+    from thzarray.app.jobs.waveform import range_problems
 
     d = load_design(args.design)
     phased = phasing(d)
+    from thzarray.app.jobs.array import tolerance_problems
+
+    problems = range_problems(d, phased) + tolerance_problems(d, phased)
+    if problems:
+        raise DesignError(problems)
     result = {"design": d.name, "valid": True, "filaments": len(d.filaments),
               "grid_points": int(d.grid.size), **phased.summary()}
     if d.estimate is not None:

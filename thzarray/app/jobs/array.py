@@ -12,7 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from thzarray.app.design import Design
+from thzarray.app.design import Design, DesignError
 from thzarray.app.jobs.context import Phasing, phasing
 from thzarray.app.jobs.filament import projected_grid
 from thzarray.base.band import band_weights
@@ -92,6 +92,20 @@ def compare(design: Design, toward=None, band=None, trials: int = 400, seed: int
     return gain, phased
 
 
+def tolerance_problems(design: Design, phased) -> list:
+    """``[tolerance].trials`` over the work cap for the phased layout, target and band (as
+    :func:`thzarray.array.tolerance.tolerance` would refuse it), as a line; ``check`` and the
+    job both run it."""
+    from thzarray.array.tolerance import trials_problem
+
+    t = design.tolerance
+    if t is None:
+        return []
+    problem = trials_problem(t.trials, phased.filaments, phased.target, phased.band,
+                             design.medium)
+    return [] if problem is None else [f"tolerance.trials: {problem}"]
+
+
 def tolerance_study(design: Design, toward=None, band=None, timing_jitter=None):
     """Monte Carlo of the design's [tolerance] errors on its phased layout.
 
@@ -105,6 +119,9 @@ def tolerance_study(design: Design, toward=None, band=None, timing_jitter=None):
                          "allowed: add it (timing_jitter, transverse_error, ...)")
     jitter = t.timing_jitter if timing_jitter is None else timing_jitter
     phased = phasing(design, toward, band)
+    problems = tolerance_problems(design, phased)
+    if problems:
+        raise DesignError(problems)
     out = tolerance(phased.filaments, phased.target, phased.band, timing_jitter=jitter,
                     transverse_error=t.transverse_error,
                     longitudinal_error=t.longitudinal_error, trials=t.trials,

@@ -154,6 +154,11 @@ def _budget_options(design):
         phi=b.phi)
 
 
+def budget_ranges(design) -> np.ndarray:
+    """The budget's receiver ranges (m): ``[budget].ranges`` or the section's default."""
+    return np.asarray(_budget_options(design)["ranges"], float)
+
+
 def receiver_direction(section, phased):
     """(theta, phi, where from): a section's theta/phi when given, else the target's."""
     if section is not None and section.theta is not None:
@@ -182,13 +187,18 @@ def budget(design: Design, toward=None) -> BudgetResult:
     the lines add to P.676's above 1 THz; with the receiver's noise settings the budget has
     signal-to-noise ratios and the range where they fall to 1.
     """
+    from thzarray.app.design import DesignError
     from thzarray.app.jobs.scale import absolute_scale
+    from thzarray.app.jobs.waveform import range_problems
     from thzarray.detect.budget import range_budget
 
     _needs(design, "receiver")
     opts = _budget_options(design)
     freq = design.receiver_band
     phased = phasing(design, toward)
+    problems = [p for p in range_problems(design, phased) if p.startswith("budget.")]
+    if problems:
+        raise DesignError(problems)
     theta, phi, source = receiver_direction(design.budget, phased)
     humidity = (None if design.medium.conditions is None
                 else np.asarray(opts["relative_humidity"], float))

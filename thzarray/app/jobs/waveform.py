@@ -19,11 +19,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from thzarray.app.design import Design
+from thzarray.app.design import Design, DesignError
 from thzarray.app.design.schema import SCHEMA
 from thzarray.app.design.sections import SECTION_TYPES
 from thzarray.app.jobs.context import Phasing, phasing
-from thzarray.app.jobs.receiver import receiver_direction
+from thzarray.app.jobs.receiver import budget_ranges, receiver_direction
+from thzarray.base.memory import DEFAULT_MEMORY_BUDGET
 
 __all__ = ["WaveformResult", "peak_field_at", "waveforms"]
 
@@ -120,6 +121,38 @@ class WaveformResult:
             "crystal": self.crystal, **self.scale.summary(), **self.phased.summary()}
 
 
+def range_problems(design: Design, phased: Phasing) -> list:
+    """Receiver points of ``budget`` and ``waveform`` that lie closer to a column than the
+    exact field allows (the near-field functions' own test), one line per command.
+
+    ``check`` and both commands run it, so a design ``check`` calls valid is one they run.
+    The budget is checked only with a ``[receiver]`` (it needs one); the waveforms always
+    (the command uses the section's defaults when the design has no ``[waveform]``).
+    """
+    from thzarray.base.geometry import unit_vectors
+    from thzarray.detect.waveform import waveform_grids
+    from thzarray.field.nearfield import _check_inputs
+
+    cases = []
+    if design.receiver is not None:
+        cases.append(("budget.ranges", design.budget, budget_ranges(design),
+                      design.receiver_band))
+    w = _section(design)
+    freq, _ = waveform_grids(w.duration, w.bandwidth)
+    cases.append(("waveform.ranges", w, np.asarray(w.ranges, float), freq[freq > 0]))
+    out = []
+    for key, section, ranges, band in cases:
+        theta, phi, source = receiver_direction(section, phased)
+        points = np.asarray(ranges, float)[:, None] * unit_vectors(theta, phi)[0]
+        try:
+            _check_inputs(phased.filaments, np.asarray(band, float)[:, None], points,
+                          design.medium, DEFAULT_MEMORY_BUDGET)
+        except ValueError as exc:
+            out.append(f"{key}: along {source}, {str(exc).removeprefix('points: ')}; or "
+                       "another direction")
+    return out
+
+
 def waveforms(design: Design, toward=None) -> WaveformResult:
     """Waveforms, electro-optic traces and spectra at the design's ranges (module docstring)."""
     from thzarray.app.jobs.scale import absolute_scale
@@ -129,6 +162,9 @@ def waveforms(design: Design, toward=None) -> WaveformResult:
 
     w = _section(design)
     phased = phasing(design, toward)
+    problems = [p for p in range_problems(design, phased) if p.startswith("waveform.")]
+    if problems:
+        raise DesignError(problems)
     theta, phi, source = receiver_direction(w, phased)
     pol, pol_source = _polarization(design, w, theta, phi)
     ranges = np.asarray(w.ranges, float)
