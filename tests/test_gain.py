@@ -163,3 +163,20 @@ def test_bad_targets_raise():
         array_gain(line(2, 1e-3, 0.02), Direction(0.1), BAND, trials=1)
     with pytest.raises(ValueError, match="delays"):
         target_fields(line(2, 1e-3, 0.02), Direction(0.1), BAND).energy([0.0, np.nan])
+
+
+def test_energies_with_phases_per_frequency_equals_per_node_path():
+    # The per-frequency matrix products (phases of shape (S, N, F)) against the same phases
+    # repeated over the nodes (shape (S, N, F, J), the einsum path); both are
+    # sum_fjc |sum_n g e^{i phi}|^2 written out (Balanis, arrays chapter).
+    from thzarray.array.targets import TargetFields
+
+    rng = np.random.default_rng(8)
+    g = rng.normal(size=(6, 3, 7, 2)) + 1j * rng.normal(size=(6, 3, 7, 2))
+    tf = TargetFields(g, 2 * np.pi * np.array([1e11, 2e11, 3e11]), "J")
+    ph = rng.uniform(0, 2 * np.pi, (11, 6, 3))
+    per_node = tf.energies_with_phases(np.repeat(ph[..., None], 7, axis=-1))
+    direct = np.array([np.sum(np.abs(np.einsum("nfjc,nf->fjc", g, np.exp(1j * p))) ** 2)
+                       for p in ph])
+    np.testing.assert_allclose(tf.energies_with_phases(ph), direct, rtol=1e-12)
+    np.testing.assert_allclose(per_node, direct, rtol=1e-12)

@@ -140,8 +140,11 @@ def array_gain(filaments, target, freq, *, medium: Medium | None = None,
     tf = target_fields(fils, target, freq, medium, plasma, spectral_weight)
     rng = np.random.default_rng(seed)
     samples = []
-    for i0 in range(0, trials, 64):
-        n = min(64, trials - i0)
+    # Draws per call, about 32 MiB of phases (the draws follow one another, so the samples do
+    # not depend on this size).
+    step = max(64, (1 << 22) // (tf.count * tf.omega.size))
+    for i0 in range(0, trials, step):
+        n = min(step, trials - i0)
         samples.append(tf.energies_with_phases(rng.uniform(0, 2 * np.pi,
                                                            (n, tf.count, tf.omega.size))))
     samples = np.concatenate(samples)

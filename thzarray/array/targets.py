@@ -248,14 +248,27 @@ class TargetFields:
         ndarray, shape (S,)
         """
         ph = np.asarray(phases, dtype=float)
-        if ph.ndim == 3:
-            ph = ph[..., None]
+        if ph.ndim == 3:  # one phase per column and frequency: a matrix product each
+            return self._energies_per_frequency(np.exp(1j * ph))
         ph = np.broadcast_to(ph, ph.shape[:3] + (self.g.shape[2],))
         out = np.empty(ph.shape[0])
         step = max(1, (1 << 22) // self.g.size)
         for i0 in range(0, ph.shape[0], step):
             s = np.einsum("nfjc,snfj->sfjc", self.g, np.exp(1j * ph[i0:i0 + step]))
             out[i0:i0 + step] = np.sum(np.abs(s) ** 2, axis=(1, 2, 3))
+        return out
+
+    def _energies_per_frequency(self, z):
+        """Energies for phasors z of shape (S, N, F), one per column and frequency: for each
+        frequency the (S, N) phasors times the (N, 2J) fields, by matrix products."""
+        out = np.zeros(z.shape[0])
+        n, nf = self.g.shape[:2]
+        for f in range(nf):
+            gf = np.ascontiguousarray(self.g[:, f].reshape(n, -1))  # (N, 2J)
+            step = max(1, (1 << 21) // gf.shape[1])
+            for i0 in range(0, z.shape[0], step):
+                s = z[i0:i0 + step, :, f] @ gf
+                out[i0:i0 + step] += np.sum(s.real ** 2 + s.imag ** 2, axis=1)
         return out
 
     @property
