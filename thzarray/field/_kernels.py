@@ -26,18 +26,20 @@ from scipy.constants import c as _C
 
 from thzarray.base.trig import cis
 
+# The profile transform lives in its own module; these names stay importable from here.
+from thzarray.field._profile_kernels import (  # noqa: F401
+    _evenly_spaced,
+    cubic_transform,
+    cubic_transform_numpy,
+    knot_jumps,
+)
+
 __all__ = [
     "uniform_sum",
     "uniform_sum_numpy",
     "uniform_grid",
     "uniform_grid_numpy",
-    "cubic_transform",
-    "cubic_transform_numpy",
-    "knot_jumps",
 ]
-
-_SERIES_TERMS = 24
-
 
 @njit(cache=True, inline="always")
 def _block_directions(theta, phi, i0, nph, rx, ry, rz, tx, ty, tz, sp, cp):
@@ -326,175 +328,3 @@ def uniform_grid_numpy(freq, theta, phi, length, start, axis, current, delay, am
                                      current, delay, amplitude, n_group, n_thz)
     scale = 1.0 if scale is None else np.asarray(scale)[:, None, None]
     return out_t.reshape(f.shape) * scale, out_p.reshape(f.shape) * scale
-
-
-@njit(cache=True)
-def _moments(phi, out):
-    """E_m(phi) = int_0^1 tau^m exp(i phi tau) d tau for m = 0..3."""
-    if abs(phi) < 1.0:
-        for mm in range(4):
-            term = 1.0 + 0.0j
-            acc = 0.0j
-            for k in range(_SERIES_TERMS):
-                acc += term / (mm + k + 1)
-                term *= 1j * phi / (k + 1)
-            out[mm] = acc
-    else:
-        eip = np.cos(phi) + 1j * np.sin(phi)
-        inv = 1.0 / (1j * phi)
-        out[0] = (eip - 1.0) * inv
-        for mm in range(1, 4):
-            out[mm] = (eip - mm * out[mm - 1]) * inv
-
-
-# Pieces between exact re-evaluations of exp(i u s_j) when the knots are evenly spaced and
-# the phase is advanced by one complex multiplication per piece (rounding grows by about one
-# ulp per step, so the drift stays near 32 ulp).
-_KNOT_RESEED = 32
-
-
-@njit(cache=True, parallel=True)
-def _cubic_transform(u, breaks, coefs, jumps, uniform, out):
-    npieces = coefs.shape[0]
-    hmin = np.inf
-    for j in range(npieces):
-        hmin = min(hmin, breaks[j + 1] - breaks[j])
-    h0 = (breaks[npieces] - breaks[0]) / npieces
-    for i in prange(u.shape[0]):
-        ui = u[i]
-        acc = 0.0j
-        if abs(ui) * hmin >= 1.0:
-            # Integration by parts over the whole column: only the knots' jumps remain.
-            inv = 1.0 / (1j * ui)
-            step = np.cos(ui * h0) + 1j * np.sin(ui * h0)
-            cur = 0.0j
-            for j in range(npieces + 1):
-                if not uniform or j % _KNOT_RESEED == 0:
-                    ph = ui * breaks[j]
-                    cur = np.cos(ph) + 1j * np.sin(ph)
-                term = inv * (jumps[j, 0] - inv * (jumps[j, 1] - inv * (
-                    jumps[j, 2] - inv * jumps[j, 3])))
-                acc += term * cur
-                cur *= step
-        elif uniform:
-            # Evenly spaced knots: the moments of every piece are the same, and the phase
-            # advances by exp(i u h) from piece to piece.
-            e = np.empty(4, dtype=np.complex128)
-            _moments(ui * h0, e)
-            w0, w1, w2, w3 = h0 * e[0], h0 ** 2 * e[1], h0 ** 3 * e[2], h0 ** 4 * e[3]
-            step = np.cos(ui * h0) + 1j * np.sin(ui * h0)
-            cur = 0.0j
-            for j in range(npieces):
-                if j % _KNOT_RESEED == 0:
-                    ph = ui * breaks[j]
-                    cur = np.cos(ph) + 1j * np.sin(ph)
-                acc += (coefs[j, 0] * w0 + coefs[j, 1] * w1 + coefs[j, 2] * w2
-                        + coefs[j, 3] * w3) * cur
-                cur *= step
-        else:
-            e = np.empty(4, dtype=np.complex128)
-            for j in range(npieces):
-                h = breaks[j + 1] - breaks[j]
-                _moments(ui * h, e)
-                piece = (coefs[j, 0] * h * e[0] + coefs[j, 1] * h * h * e[1]
-                         + coefs[j, 2] * h * h * h * e[2] + coefs[j, 3] * h * h * h * h * e[3])
-                ph = ui * breaks[j]
-                acc += piece * (np.cos(ph) + 1j * np.sin(ph))
-        out[i] = acc
-
-
-def _evenly_spaced(breaks) -> bool:
-    """Whether every piece has the mean width to 1e-12 (a sampled profile on a linspace)."""
-    h = np.diff(breaks)
-    return bool(np.all(np.abs(h - h.mean()) <= 1e-12 * h.mean()))
-
-
-def knot_jumps(breaks, coefs):
-    """Jumps p^(m)(s_j-) - p^(m)(s_j+), m = 0..3, of a C1 piecewise cubic, shape (P + 1, 4).
-
-    Interior jumps of the value and the slope are exactly zero (the interpolants are C1);
-    outside the column the profile is zero. Complex coefficients give complex jumps.
-    """
-    h = np.diff(breaks)
-    c0, c1, c2, c3 = coefs.T
-    at_right_end = np.stack([c0 + h * (c1 + h * (c2 + h * c3)), c1 + h * (2 * c2 + 3 * h * c3),
-                             2 * c2 + 6 * h * c3, 6 * c3], axis=1)
-    at_left_end = np.stack([c0, c1, 2 * c2, 6 * c3], axis=1)
-    jumps = np.zeros((breaks.size, 4), dtype=coefs.dtype)
-    jumps[1:] += at_right_end
-    jumps[:-1] -= at_left_end
-    jumps[1:-1, :2] = 0.0
-    return jumps
-
-
-def cubic_transform(u, breaks, coefs):
-    r"""Exact Fourier integral of a C1 piecewise cubic, int w(s) exp(i u s) ds (compiled).
-
-    Parameters
-    ----------
-    u : ndarray, shape (M,)
-        Spatial angular frequency (rad/m).
-    breaks : ndarray, shape (P + 1,)
-        Piece boundaries (m).
-    coefs : ndarray, float or complex, shape (P, 4)
-        Ascending-power coefficients of each piece in (s - breaks[j]); complex coefficients
-        (a complex profile) are transformed as they are, by the complex specialisation of
-        the same loop (the transform is linear in them).
-
-    Returns
-    -------
-    ndarray, complex, shape (M,)
-        The integral (m, times the unit of the coefficients). Where |u| h >= 1 for every
-        piece, repeated integration by parts leaves only the jumps of the profile and its
-        first three derivatives at the knots,
-
-        .. math:: \int w\,e^{ius} ds = \sum_j e^{ius_j} \sum_{m=0}^{3}
-                  \frac{(-1)^m [w^{(m)}]_j}{(iu)^{m+1}},
-
-        with no cancellation between pieces; otherwise each piece is integrated with the
-        power series of its moments (|u h| < 1) or their recurrence. Rounding stays near
-        machine precision relative to the result.
-    """
-    out = np.empty(u.shape[0], dtype=np.complex128)
-    _cubic_transform(np.ascontiguousarray(u, dtype=float), breaks, coefs,
-                     knot_jumps(breaks, coefs), _evenly_spaced(breaks), out)
-    return out
-
-
-def cubic_transform_numpy(u, breaks, coefs, chunk=4096):
-    """Numpy twin of :func:`cubic_transform` (same branches, array operations)."""
-    out = np.empty(u.shape[0], dtype=complex)
-    h = np.diff(breaks)
-    far = np.abs(u) * h.min() >= 1.0
-    jumps = knot_jumps(breaks, coefs)
-    far_idx = np.flatnonzero(far)
-    for i0 in range(0, far_idx.size, chunk):
-        sel = far_idx[i0:i0 + chunk]
-        inv = 1.0 / (1j * u[sel])[:, None]
-        terms = inv * (jumps[:, 0] - inv * (jumps[:, 1] - inv * (jumps[:, 2]
-                                                                - inv * jumps[:, 3])))
-        out[sel] = (terms * np.exp(1j * u[sel, None] * breaks[None, :])).sum(axis=1)
-    near_idx = np.flatnonzero(~far)
-    k = np.arange(_SERIES_TERMS)
-    fact = np.cumprod(np.concatenate([[1.0], np.arange(1, _SERIES_TERMS)]))
-    for i0 in range(0, near_idx.size, chunk):
-        sel = near_idx[i0:i0 + chunk]
-        uu = u[sel, None]
-        phi = uu * h[None, :]
-        small = np.abs(phi) < 1.0
-        moments = np.empty((4,) + phi.shape, dtype=complex)
-        safe = np.where(small, 1.0, phi)
-        eip = np.exp(1j * safe)
-        moments[0] = (eip - 1) / (1j * safe)
-        for m in range(1, 4):
-            moments[m] = (eip - m * moments[m - 1]) / (1j * safe)
-        if small.any():
-            ps = phi[small]
-            powers = (1j * ps[:, None]) ** k[None, :] / fact[None, :]
-            for m in range(4):
-                moments[m][small] = (powers / (m + k + 1)[None, :]).sum(axis=1)
-        hp = h[None, :]
-        piece = (coefs[:, 0] * hp * moments[0] + coefs[:, 1] * hp**2 * moments[1]
-                 + coefs[:, 2] * hp**3 * moments[2] + coefs[:, 3] * hp**4 * moments[3])
-        out[sel] = (piece * np.exp(1j * uu * breaks[None, :-1])).sum(axis=1)
-    return out
