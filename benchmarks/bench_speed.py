@@ -9,6 +9,7 @@ printed, never asserted; the machine is shared, so repeat runs vary by tens of p
 
 from __future__ import annotations
 
+import contextlib
 import os
 import subprocess
 import sys
@@ -203,13 +204,8 @@ def _command(name, n, trials=500):
         with open(path, "w") as fh:
             fh.write(_STEER_DESIGN.format(side=int(round(np.sqrt(n))), trials=trials))
         t0 = time.perf_counter()
-        with open(os.devnull, "w") as null:
-            saved = sys.stdout
-            sys.stdout = null
-            try:
-                code = main([name, path, "--out", os.path.join(tmp, "out")])
-            finally:
-                sys.stdout = saved
+        with open(os.devnull, "w") as null, contextlib.redirect_stdout(null):
+            code = main([name, path, "--out", os.path.join(tmp, "out")])
         if code:
             raise RuntimeError(f"thzarray {name} exited {code}")
         return time.perf_counter() - t0

@@ -11,7 +11,7 @@ from scipy.interpolate import CubicSpline, PchipInterpolator
 from thzarray import Filament, Medium, far_field
 from thzarray.array.steering import steering_delays
 from thzarray.array.targets import Direction, target_fields
-from thzarray.field import _kernels
+from thzarray.field import _profile_kernels as _kernels
 from thzarray.field.nearfield import fields_at
 
 HUMID = Medium.air(relative_humidity=0.5)

@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
-from thzarray.field import _kernels
+from thzarray.field import _profile_kernels
 from thzarray.source.filament import Filament
 
 
@@ -33,8 +33,8 @@ def _exact_transform(u, breaks, coefs):
 def test_cubic_transform_exact(profile):
     fil = Filament(0.2, profile=profile)
     u = np.array([-3e4, -50.0, 1e-3, 0.7, 3.0, 39.0, 41.0, 250.0, 1e3, 3e4, 1.2e5, 1e6])
-    got = _kernels.cubic_transform(u, fil._breaks, fil._coefs)
-    twin = _kernels.cubic_transform_numpy(u, fil._breaks, fil._coefs)
+    got = _profile_kernels.cubic_transform(u, fil._breaks, fil._coefs)
+    twin = _profile_kernels.cubic_transform_numpy(u, fil._breaks, fil._coefs)
     ref = np.array([_exact_transform(x, fil._breaks, fil._coefs) for x in u])
     # Relative to each value, including deep side lobes 1e-11 below the peak.
     assert_allclose(got, ref, rtol=1e-10)
@@ -47,25 +47,25 @@ def test_cubic_transform_of_many_even_pieces_matches_the_exact_sum():
     # profile against the same sum in 60-digit arithmetic (mpmath).
     z = np.linspace(0.0, 0.1, 201)
     fil = Filament(0.1, profile=(z, np.sin(0.3 + 2 * np.pi * z / 0.05) * (1 - z / 0.2)))
-    assert _kernels._evenly_spaced(fil._breaks) and fil._coefs.shape[0] >= 200
+    assert _profile_kernels._evenly_spaced(fil._breaks) and fil._coefs.shape[0] >= 200
     u = np.array([-2e4, -300.0, 1e-3, 0.7, 60.0, 125.0, 900.0, 1999.0, 2001.0, 2.5e4, 3e5])
-    got = _kernels.cubic_transform(u, fil._breaks, fil._coefs)
+    got = _profile_kernels.cubic_transform(u, fil._breaks, fil._coefs)
     ref = np.array([_exact_transform(x, fil._breaks, fil._coefs) for x in u])
     assert_allclose(got, ref, rtol=1e-10, atol=1e-12 * np.abs(ref).max())
-    assert_allclose(_kernels.cubic_transform_numpy(u, fil._breaks, fil._coefs), got,
+    assert_allclose(_profile_kernels.cubic_transform_numpy(u, fil._breaks, fil._coefs), got,
                     rtol=1e-11, atol=1e-13 * np.abs(ref).max())
 
 
 def test_cubic_transform_at_zero_is_the_area():
     fil = Filament(1.0, profile=lambda s: 1 + s**2)
-    got = _kernels.cubic_transform(np.array([0.0]), fil._breaks, fil._coefs)[0]
+    got = _profile_kernels.cubic_transform(np.array([0.0]), fil._breaks, fil._coefs)[0]
     assert_allclose(got, 4.0 / 3.0, rtol=1e-14)  # int_0^1 (1 + s^2) ds
 
 
 def test_knot_jumps_of_single_piece():
     breaks = np.array([0.0, 2.0])
     coefs = np.array([[1.0, 2.0, 3.0, 4.0]])
-    jumps = _kernels.knot_jumps(breaks, coefs)
+    jumps = _profile_kernels.knot_jumps(breaks, coefs)
     # p(0+) = 1, p'(0+) = 2, p''(0+) = 6, p''' = 24; p(2) = 1 + 4 + 12 + 32 = 49, ...
     assert_allclose(jumps[0], [-1.0, -2.0, -6.0, -24.0])
     assert_allclose(jumps[1], [49.0, 2 + 12 + 48, 6 + 48, 24.0])
@@ -73,8 +73,9 @@ def test_knot_jumps_of_single_piece():
 
 def test_blocked_even_transform_equals_general_kernel_and_twin():
     # The blocked kernel for evenly spaced knots against the general per-direction kernel
-    # and the numpy twin on the same complex profile, with directions on both sides of
-    # |u| h = 1 (jumps sum versus piece moments) and u = 0, in several blocks.
+    # and the numpy twin (integration by parts of a C1 cubic; common practice, no source)
+    # on the same complex profile, with directions on both sides of |u| h = 1 (jumps sum
+    # versus piece moments) and u = 0, in several blocks.
     from thzarray.field import _profile_kernels as pk
 
     rng = np.random.default_rng(12)

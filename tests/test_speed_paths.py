@@ -227,7 +227,9 @@ def test_lattice_separable_kernel_equals_twin():
 
 def test_separable_lattice_factor_equals_twin():
     # Row x column phasors (a steered grid) through the separable Horner kernel against the
-    # direct sum over the sites; directions in several blocks, one partial block.
+    # direct sum over the sites (a planar array's factor as the product of two linear
+    # factors: Balanis, Antenna Theory, planar arrays); directions in several blocks, one
+    # partial block.
     rng = np.random.default_rng(21)
     rows = rng.normal(size=6) + 1j * rng.normal(size=6)
     cols = rng.normal(size=9) + 1j * rng.normal(size=9)

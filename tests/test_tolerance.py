@@ -112,8 +112,8 @@ def test_bad_inputs_raise():
 @pytest.mark.parametrize("nodes", [1, 5, 130])
 def test_trial_kernel_equals_twin(nodes):
     # The compiled build energies against the numpy twin (same formula, module docstring of
-    # thzarray.array._trial_kernels): node counts below, at and above one block, more builds
-    # than share one pass over the fields.
+    # thzarray.array._trial_kernels; kernel against twin: common practice, no source): node
+    # counts below, at and above one block, more builds than share one pass over the fields.
     from thzarray.array._trial_kernels import trial_energies, trial_energies_numpy
 
     rng = np.random.default_rng(nodes)

@@ -29,7 +29,7 @@ from numba import njit, prange
 
 from thzarray.base.trig import cis
 
-__all__ = ["trial_energies", "trial_energies_numpy"]
+__all__ = ["node_blocks", "trial_energies", "trial_energies_numpy"]
 
 
 _BLOCK = 128  # most nodes per task
@@ -97,7 +97,17 @@ def _blocks(x, size):
     return out
 
 
-def trial_energies(g, omega, u, v, w, dt, du, dv, ds):
+def node_blocks(g, u, v, w):
+    """The fields and delays per metre rearranged for :func:`trial_energies`: real and
+    imaginary parts and u, v, w in zero-padded node blocks on a leading axis. A caller that
+    sums several batches of builds on the same fields makes them once."""
+    g = np.asarray(g, dtype=np.complex128).transpose(0, 1, 3, 2)  # (N, F, 2, J)
+    size = int(min(_BLOCK, 1 << max(0, int(g.shape[3] - 1).bit_length())))
+    return (_blocks(g.real, size), _blocks(g.imag, size),
+            *(_blocks(np.asarray(x, dtype=float), size) for x in (u, v, w)))
+
+
+def trial_energies(g, omega, u, v, w, dt, du, dv, ds, *, blocks=None):
     """Energy of each simulated build (module docstring).
 
     Parameters
@@ -110,6 +120,8 @@ def trial_energies(g, omega, u, v, w, dt, du, dv, ds):
         Delay per metre of transverse (two directions) and onset error toward each node (s/m).
     dt, du, dv, ds : ndarray, shape (S, N)
         Each build's timing (s), transverse (m, m) and onset (m) errors.
+    blocks : tuple, optional
+        ``node_blocks(g, u, v, w)``, when the caller has it already.
 
     Returns
     -------
@@ -120,13 +132,9 @@ def trial_energies(g, omega, u, v, w, dt, du, dv, ds):
     -----
     Working memory: the fields once more (real and imaginary parts in node blocks).
     """
-    g = np.asarray(g, dtype=np.complex128).transpose(0, 1, 3, 2)  # (N, F, 2, J)
-    size = int(min(_BLOCK, 1 << max(0, int(g.shape[3] - 1).bit_length())))
-    gr = _blocks(g.real, size)
-    gi = _blocks(g.imag, size)
-    partial = np.empty((np.shape(dt)[0], g.shape[1] * gr.shape[0]))
-    _trial_energies(gr, gi, np.ascontiguousarray(omega, dtype=float),
-                    *(_blocks(np.asarray(x, dtype=float), size) for x in (u, v, w)),
+    gr, gi, ub, vb, wb = node_blocks(g, u, v, w) if blocks is None else blocks
+    partial = np.empty((np.shape(dt)[0], gr.shape[2] * gr.shape[0]))
+    _trial_energies(gr, gi, np.ascontiguousarray(omega, dtype=float), ub, vb, wb,
                     *(np.ascontiguousarray(x, dtype=float) for x in (dt, du, dv, ds)), partial)
     return partial.sum(axis=1)
 

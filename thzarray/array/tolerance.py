@@ -40,7 +40,7 @@ import numpy as np
 from scipy.constants import c
 
 from thzarray.air.medium import Medium
-from thzarray.array._trial_kernels import trial_energies
+from thzarray.array._trial_kernels import node_blocks, trial_energies
 from thzarray.array.gain import MAX_TRIALS
 from thzarray.array.targets import target_fields
 from thzarray.base.checks import check_count, check_scalar
@@ -211,6 +211,7 @@ def tolerance(filaments, target, freq, *, timing_jitter=0.0, transverse_error=0.
     u = -(medium.n_thz / c) * (e1 @ r.T)
     v = -(medium.n_thz / c) * (e2 @ r.T)
     slip_time = slip / c
+    blocks = node_blocks(g, u, v, slip_time)  # once for every batch of builds
     rng = np.random.default_rng(seed)
     samples = np.empty(trials)
     # Builds per call: their errors take 4 x 8 bytes per column, about 32 MiB at most.
@@ -221,7 +222,8 @@ def tolerance(filaments, target, freq, *, timing_jitter=0.0, transverse_error=0.
         du = sp * rng.standard_normal((n, len(fils)))
         dv = sp * rng.standard_normal((n, len(fils)))
         ds = sl * rng.standard_normal((n, len(fils)))
-        samples[i0:i0 + n] = trial_energies(g, w, u, v, slip_time, dt, du, dv, ds) / nominal
+        samples[i0:i0 + n] = trial_energies(g, w, u, v, slip_time, dt, du, dv, ds,
+                                            blocks=blocks) / nominal
     var = phase_error_variance(fils, th, ph, w / (2 * np.pi), timing_jitter=st,
                                transverse_error=sp, longitudinal_error=sl, medium=medium)
     mean_phasor = np.exp(-0.5 * var)[..., None]  # (N, F, J, 1)

@@ -26,14 +26,6 @@ from scipy.constants import c as _C
 
 from thzarray.base.trig import cis
 
-# The profile transform lives in its own module; these names stay importable from here.
-from thzarray.field._profile_kernels import (  # noqa: F401
-    _evenly_spaced,
-    cubic_transform,
-    cubic_transform_numpy,
-    knot_jumps,
-)
-
 __all__ = [
     "uniform_sum",
     "uniform_sum_numpy",
@@ -226,10 +218,10 @@ def _uniform_grid(freq, theta, phi, length, sx, sy, sz, ax, ay, az, dx, dy, dz, 
         z1i = np.empty(k)
         z3r = np.empty(k)
         z3i = np.empty(k)
-        s1r = np.empty(k)
-        s1i = np.empty(k)
-        s3r = np.empty(k)
-        s3i = np.empty(k)
+        s1r = np.ones(k)
+        s1i = np.zeros(k)
+        s3r = np.ones(k)
+        s3i = np.zeros(k)
         for n in range(nfil):
             ng = n_group[n]
             ln = length[n]
@@ -241,8 +233,10 @@ def _uniform_grid(freq, theta, phi, length, sx, sy, sz, ax, ay, az, dx, dy, dz, 
                 a_all[i] = a_half[i] + 2.0 * np.pi * delay[n] - two_pi_over_c * n_thz * r_dot
                 at[i] = dx[n] * tx[i] + dy[n] * ty[i] + dz[n] * tz[i]
                 ap[i] = dy[n] * cp[i] - dx[n] * sp[i]
-                s1r[i], s1i[i] = cis(a_half[i] * df)
-                s3r[i], s3i[i] = cis(a_all[i] * df)
+            if equal_steps:  # the steps serve only the recurrence (unit steps otherwise)
+                for i in range(k):
+                    s1r[i], s1i[i] = cis(a_half[i] * df)
+                    s3r[i], s3i[i] = cis(a_all[i] * df)
             for kk in range(nf):
                 fk = freq[kk]
                 if not equal_steps or kk % _RESEED == 0:

@@ -73,7 +73,7 @@ from thzarray.air.medium import Medium
 from thzarray.base.checks import as_float_array
 from thzarray.base.geometry import unit_vectors
 from thzarray.base.memory import DEFAULT_MEMORY_BUDGET, check_result_fits, chunk_points
-from thzarray.field import _kernels
+from thzarray.field import _kernels, _profile_kernels
 from thzarray.source.column_plasma import ColumnPlasma, as_column_plasma
 from thzarray.source.filament import Filament, as_filaments
 from thzarray.source.plasma import Plasma
@@ -204,7 +204,8 @@ def _profiled_sum(fil: Filament, freq, theta, phi, medium, compiled, cache=None)
     depend on the start or the delay. Only shared transforms are kept, at most
     ``_SHARED_TRANSFORMS`` of them, each one chunk of complex numbers."""
     u, phase, d_t, d_p = _column_phase(fil, freq, theta, phi, medium)
-    transform = _kernels.cubic_transform if compiled else _kernels.cubic_transform_numpy
+    transform = (_profile_kernels.cubic_transform if compiled
+                 else _profile_kernels.cubic_transform_numpy)
     pieces = fil.pieces
     key = _transform_key(fil, medium)
     shared = None if cache is None else cache.get(key)
@@ -286,7 +287,8 @@ def _varying_sum(fil, column_plasma, freq, theta, phi, shape, medium, compiled, 
     inverse = inverse.ravel()
     order = np.argsort(inverse, kind="stable")
     bounds = np.searchsorted(inverse[order], np.arange(values.size + 1))
-    transform = _kernels.cubic_transform if compiled else _kernels.cubic_transform_numpy
+    transform = (_profile_kernels.cubic_transform if compiled
+                 else _profile_kernels.cubic_transform_numpy)
     ng = fil.group_index_in(medium)
     per_call = max(1, min(values.size, _PIECE_BYTES // (64 * column_plasma.nodes(fil).size)))
     e_t, e_p = out

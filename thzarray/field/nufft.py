@@ -46,7 +46,7 @@ from thzarray.air.medium import Medium
 from thzarray.base.checks import check_scalar
 from thzarray.base.geometry import unit_vectors
 from thzarray.base.memory import DEFAULT_MEMORY_BUDGET, check_result_fits, chunk_points
-from thzarray.field._kernels import knot_jumps
+from thzarray.field._profile_kernels import knot_jumps
 from thzarray.field.farfield import (
     FarField,
     check_directions,
